@@ -1,0 +1,11 @@
+// Subcommands of the `shingleton` binary. Each Add*Command registers its options
+// on the CLI11 app and a callback that runs it; the exit code is stored in *rc.
+#pragma once
+
+#include <CLI/CLI.hpp>
+
+namespace shingleton::cli {
+
+void AddDedupCommand(CLI::App* app, int* rc);
+
+}  // namespace shingleton::cli

@@ -1,0 +1,388 @@
+#include "index/dedup_job.h"
+
+#include <unistd.h>
+
+#include <oneapi/tbb/parallel_for.h>
+#include <oneapi/tbb/task_arena.h>
+
+#include <atomic>
+#include <chrono>
+#include <filesystem>
+#include <mutex>
+#include <thread>
+
+#include "index/bands.h"
+#include "index/clusters.h"
+#include "index/doc_table.h"
+#include "index/index_store.h"
+#include "index/json_writer.h"
+#include "index/manifest.h"
+
+namespace shingleton {
+namespace {
+
+namespace fs = std::filesystem;
+using Clock = std::chrono::steady_clock;
+
+constexpr size_t kMaxBadExamples = 20;
+
+double SecondsSince(Clock::time_point t) {
+  return std::chrono::duration<double>(Clock::now() - t).count();
+}
+
+int ThreadCount(const DedupOptions& o) {
+  return o.ingest.threads > 0 ? o.ingest.threads
+                              : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+}
+
+std::string IndexPath(const DedupOptions& o) {
+  return o.index_path.empty() ? o.out_dir + "/index" : o.index_path;
+}
+
+// Refuses to overwrite earlier results unless asked to, and refuses an existing
+// index built with another scheme even then it would be replaced silently.
+Status CheckOutputs(const DedupOptions& o, const SketchScheme& scheme) {
+  std::error_code ec;
+  fs::create_directories(o.out_dir, ec);
+  if (ec) return Status::IoError("cannot create output directory " + o.out_dir + ": " + ec.message());
+  const std::string index = IndexPath(o);
+  if (fs::exists(index)) {
+    auto existing = IndexStore::ReadScheme(index);
+    if (!existing.ok() && existing.status().code() != Status::Code::kNotFound && !o.replace) {
+      return existing.status().WithContext("existing index");
+    }
+    if (existing.ok() && existing.value() != scheme && !o.replace) {
+      return Status::Mismatch("the index at " + index + " was built with another sketch scheme (" +
+                              existing.value().DescribeDifference(scheme) +
+                              "; existing vs this job); pass --replace to rebuild it");
+    }
+    if (!o.replace) {
+      return Status::AlreadyExists("an index already exists at " + index +
+                                   "; pass --replace to rebuild it or choose another --out");
+    }
+  }
+  for (const char* name : {"keep.jsonl", "drop.jsonl", "summary.json"}) {
+    if (fs::exists(fs::path(o.out_dir) / name) && !o.replace) {
+      return Status::AlreadyExists(o.out_dir + "/" + name + " exists; pass --replace to overwrite");
+    }
+  }
+  return Status::Ok();
+}
+
+// Reads every input into the store and the table. Bad records fail the job, or
+// are skipped and counted with --skip-bad.
+Status Ingest(const DedupOptions& o, IndexStore* store, DocTable* table, DedupSummary* summary,
+              Clock::time_point start) {
+  const SketchScheme& scheme = store->scheme();
+  const int k = scheme.num_hashes, b = scheme.bands;
+  SHINGLETON_ASSIGN_OR_RETURN(uint64_t total_bytes, InputBytes(o.ingest.inputs));
+  WriteBatchBuilder batch(store);
+  Clock::time_point last_progress = start;
+  auto skip = [&](BadRecord kind, const Status& why) {
+    ++summary->skipped[static_cast<size_t>(kind)];
+    if (summary->skipped_examples.size() < kMaxBadExamples) {
+      summary->skipped_examples.push_back({why.message(), kind});
+    }
+  };
+  auto sink = [&](const SignedBatch& signed_batch) -> Status {
+    for (size_t i = 0; i < signed_batch.records.size(); ++i) {
+      const SignedRecord& rec = signed_batch.records[i];
+      ++summary->records_read;
+      if (rec.bad != BadRecord::kNone) {
+        if (!o.skip_bad) return rec.error;
+        skip(rec.bad, rec.error);
+        continue;
+      }
+      DocumentMeta meta = rec.meta;
+      meta.ordinal = table->size();
+      Status added = table->Add(std::move(meta), signed_batch.sig(i, k));
+      if (!added.ok()) {
+        Status bad = Status::BadInput(added.message());
+        if (!o.skip_bad) return bad;
+        skip(BadRecord::kDuplicateId, bad);
+        continue;
+      }
+      const DocumentMeta& doc = table->doc(table->size() - 1);
+      if (doc.tokens == 0) ++summary->empty_documents;
+      batch.AddDocument(doc, signed_batch.sig(i, k), k, signed_batch.bucket(i, b));
+    }
+    summary->text_bytes += signed_batch.text_bytes;
+    SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
+    if (o.progress && SecondsSince(last_progress) > 0.2) {
+      last_progress = Clock::now();
+      o.progress({summary->records_read, summary->text_bytes, signed_batch.raw_bytes_done,
+                  total_bytes, SecondsSince(start), "reading"});
+    }
+    return Status::Ok();
+  };
+  return RunIngestPipeline(o.ingest, scheme, sink);
+}
+
+// Scans every bucket of every band (bands in parallel) and verifies its members.
+StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& store,
+                                      const DocTable& table, DedupSummary* summary) {
+  const int bands = store.scheme().bands;
+  VerifyOptions vo;
+  vo.threshold = o.threshold;
+  vo.all_pairs_limit = o.all_pairs_limit;
+  vo.max_leaders = o.max_leaders;
+  BucketVerifier verifier(vo, table.num_hashes(),
+                          [&table](uint64_t key) { return table.SignatureOf(key); });
+  std::vector<std::vector<Edge>> per_band(bands);
+  std::vector<Status> statuses(bands);
+  std::atomic<uint64_t> comparisons{0}, buckets{0};
+  tbb::task_arena arena(ThreadCount(o));
+  arena.execute([&] {
+    tbb::parallel_for(0, bands, [&](int band) {
+      statuses[band] = store.ForEachBucket(
+          band, 2, [&](int bd, uint64_t, const std::vector<uint64_t>& members) {
+            ++buckets;
+            comparisons += verifier.Verify(bd, members, &per_band[bd]);
+            return Status::Ok();
+          });
+    });
+  });
+  for (const Status& s : statuses) SHINGLETON_RETURN_IF_ERROR(s);
+  std::vector<Edge> edges;
+  for (auto& v : per_band) edges.insert(edges.end(), v.begin(), v.end());
+  DeduplicateEdges(&edges);
+  summary->comparisons = comparisons.load();
+  summary->buckets_checked = buckets.load();
+  summary->edges = edges.size();
+  return edges;
+}
+
+void CountDecisions(const std::vector<Decision>& decisions, DedupSummary* summary) {
+  for (const Decision& d : decisions) {
+    if (d.kept()) {
+      ++summary->kept;
+      if (d.cluster_size >= 2) ++summary->clusters;
+    } else {
+      ++summary->dropped;
+    }
+    summary->largest_cluster = std::max<uint64_t>(summary->largest_cluster, d.cluster_size);
+  }
+}
+
+Status PersistDecisions(IndexStore* store, const std::vector<Decision>& decisions,
+                        const std::vector<Edge>& edges) {
+  WriteBatchBuilder batch(store);
+  for (const Decision& d : decisions) {
+    batch.AddDecision(d);
+    if (batch.count() >= 8192) SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
+  }
+  for (const Edge& e : edges) {
+    batch.AddEdge(e);
+    if (batch.count() >= 8192) SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
+  }
+  return store->Write(&batch);
+}
+
+// Moves the finished index into place, replacing an older one.
+Status PublishIndex(const std::string& building, const std::string& final_path) {
+  std::error_code ec;
+  const std::string old = final_path + ".old-" + std::to_string(::getpid());
+  const bool had_old = fs::exists(final_path);
+  if (had_old) {
+    fs::rename(final_path, old, ec);
+    if (ec) return Status::IoError("cannot move aside " + final_path + ": " + ec.message());
+  }
+  fs::rename(building, final_path, ec);
+  if (ec) {
+    if (had_old) fs::rename(old, final_path);
+    return Status::IoError("cannot move " + building + " to " + final_path + ": " + ec.message());
+  }
+  if (had_old) fs::remove_all(old, ec);
+  return Status::Ok();
+}
+
+// Removes a half-built index when the job fails.
+class BuildDirGuard {
+ public:
+  explicit BuildDirGuard(std::string path) : path_(std::move(path)) {}
+  ~BuildDirGuard() {
+    if (!path_.empty()) {
+      std::error_code ec;
+      fs::remove_all(path_, ec);
+    }
+  }
+  void Release() { path_.clear(); }
+
+ private:
+  std::string path_;
+};
+
+}  // namespace
+
+uint64_t DedupSummary::skipped_total() const {
+  uint64_t n = 0;
+  for (uint64_t c : skipped) n += c;
+  return n;
+}
+
+StatusOr<SketchScheme> SchemeFromOptions(const DedupOptions& o) {
+  if (!(o.threshold > 0 && o.threshold < 1)) {
+    return Status::InvalidArgument("threshold must be strictly between 0 and 1");
+  }
+  if (!(o.fn_weight >= 0 && o.fn_weight <= 1)) {
+    return Status::InvalidArgument("false-negative weight must be in [0, 1]");
+  }
+  SketchScheme s = SketchScheme::Default();
+  s.shingle_kind = o.shingle_kind;
+  s.shingle_size = o.shingle_size > 0 ? o.shingle_size : 5;
+  s.seed = o.seed;
+  s.num_hashes = o.num_hashes;
+  if ((o.bands > 0) != (o.rows > 0)) {
+    return Status::InvalidArgument("give both bands and rows, or neither");
+  }
+  if (o.bands > 0) {
+    s.bands = o.bands;
+    s.rows = o.rows;
+  } else if (o.num_hashes >= 1) {
+    Banding chosen = ChooseBanding(o.threshold, o.num_hashes, o.fn_weight);
+    s.bands = chosen.bands;
+    s.rows = chosen.rows;
+  }
+  SHINGLETON_RETURN_IF_ERROR(s.Validate());
+  return s;
+}
+
+StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
+  const Clock::time_point start = Clock::now();
+  if (o.ingest.inputs.empty()) return Status::InvalidArgument("no input files");
+  if (o.out_dir.empty()) return Status::InvalidArgument("no output directory");
+  DedupSummary summary;
+  SHINGLETON_ASSIGN_OR_RETURN(summary.scheme, SchemeFromOptions(o));
+  SHINGLETON_ASSIGN_OR_RETURN(uint64_t input_bytes, InputBytes(o.ingest.inputs));
+  SHINGLETON_RETURN_IF_ERROR(CheckOutputs(o, summary.scheme));
+
+  const std::string index_path = IndexPath(o);
+  const std::string building = index_path + ".building-" + std::to_string(::getpid());
+  std::error_code ec;
+  fs::remove_all(building, ec);
+  BuildDirGuard guard(building);
+  StoreOptions so;
+  so.bulk_load = true;
+  SHINGLETON_ASSIGN_OR_RETURN(auto store, IndexStore::Create(building, summary.scheme, so));
+  DocTable table(summary.scheme.num_hashes);
+
+  SHINGLETON_RETURN_IF_ERROR(Ingest(o, store.get(), &table, &summary, start));
+  summary.documents = table.size();
+  summary.seconds_read = SecondsSince(start);
+
+  auto report = [&](const char* phase) {
+    if (o.progress) {
+      o.progress({summary.records_read, summary.text_bytes, input_bytes, input_bytes,
+                  SecondsSince(start), phase});
+    }
+  };
+  report("candidates");
+  Clock::time_point t = Clock::now();
+  SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, *store, table, &summary));
+  summary.seconds_candidates = SecondsSince(t);
+
+  report("clusters");
+  t = Clock::now();
+  std::vector<Decision> decisions = ResolveClusters(table, edges, o.policy);
+  CountDecisions(decisions, &summary);
+  summary.seconds_clusters = SecondsSince(t);
+
+  report("writing");
+  t = Clock::now();
+  SHINGLETON_RETURN_IF_ERROR(PersistDecisions(store.get(), decisions, edges));
+  ManifestWriter manifests;
+  SHINGLETON_RETURN_IF_ERROR(manifests.Prepare(o.out_dir, table, decisions));
+  summary.seconds_write = SecondsSince(t);
+  summary.seconds_total = SecondsSince(start);
+  const std::string summary_json = SummaryJson(o, summary);
+  SHINGLETON_RETURN_IF_ERROR(store->PutJobRecord(summary_json));
+  SHINGLETON_RETURN_IF_ERROR(store->Flush());
+  store.reset();
+
+  AtomicFile summary_file(o.out_dir + "/summary.json");
+  SHINGLETON_RETURN_IF_ERROR(summary_file.Open());
+  SHINGLETON_RETURN_IF_ERROR(summary_file.Append(summary_json + "\n"));
+  SHINGLETON_RETURN_IF_ERROR(summary_file.Finish());
+  // Publish: the index first, then the manifests, the summary last.
+  SHINGLETON_RETURN_IF_ERROR(PublishIndex(building, index_path));
+  guard.Release();
+  SHINGLETON_RETURN_IF_ERROR(manifests.Commit());
+  SHINGLETON_RETURN_IF_ERROR(summary_file.Commit());
+  return summary;
+}
+
+std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
+  JsonWriter w;
+  w.BeginObject();
+  w.Key("tool");
+  w.String("shingleton dedup");
+  w.Key("inputs");
+  w.BeginArray();
+  for (const auto& in : o.ingest.inputs) w.String(in);
+  w.EndArray();
+  w.Key("index");
+  w.String(IndexPath(o));
+  w.Key("scheme");
+  w.String(s.scheme.Serialize());
+  w.Key("threshold");
+  w.Double(o.threshold, 4);
+  w.Key("keep_policy");
+  w.String(o.policy.Name());
+  w.Key("records_read");
+  w.Uint(s.records_read);
+  w.Key("documents");
+  w.Uint(s.documents);
+  w.Key("kept");
+  w.Uint(s.kept);
+  w.Key("dropped");
+  w.Uint(s.dropped);
+  w.Key("clusters");
+  w.Uint(s.clusters);
+  w.Key("largest_cluster");
+  w.Uint(s.largest_cluster);
+  w.Key("empty_documents");
+  w.Uint(s.empty_documents);
+  w.Key("skipped");
+  w.BeginObject();
+  for (size_t i = 1; i < s.skipped.size(); ++i) {
+    w.Key(BadRecordName(static_cast<BadRecord>(i)));
+    w.Uint(s.skipped[i]);
+  }
+  w.EndObject();
+  w.Key("skipped_examples");
+  w.BeginArray();
+  for (const auto& ex : s.skipped_examples) {
+    w.BeginObject();
+    w.Key("kind");
+    w.String(BadRecordName(ex.kind));
+    w.Key("error");
+    w.String(ex.where);
+    w.EndObject();
+  }
+  w.EndArray();
+  w.Key("buckets_checked");
+  w.Uint(s.buckets_checked);
+  w.Key("comparisons");
+  w.Uint(s.comparisons);
+  w.Key("edges");
+  w.Uint(s.edges);
+  w.Key("text_bytes");
+  w.Uint(s.text_bytes);
+  w.Key("seconds");
+  w.BeginObject();
+  w.Key("read_and_sign");
+  w.Double(s.seconds_read, 3);
+  w.Key("candidates");
+  w.Double(s.seconds_candidates, 3);
+  w.Key("clusters");
+  w.Double(s.seconds_clusters, 3);
+  w.Key("write");
+  w.Double(s.seconds_write, 3);
+  w.Key("total");
+  w.Double(s.seconds_total, 3);
+  w.EndObject();
+  w.EndObject();
+  return w.Take();
+}
+
+}  // namespace shingleton

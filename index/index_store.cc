@@ -1,0 +1,352 @@
+#include "index/index_store.h"
+
+#include <rocksdb/db.h>
+#include <rocksdb/options.h>
+#include <rocksdb/slice.h>
+#include <rocksdb/table.h>
+#include <rocksdb/filter_policy.h>
+#include <rocksdb/write_batch.h>
+
+#include <cstring>
+#include <filesystem>
+
+#include "index/coding.h"
+
+namespace shingleton {
+namespace {
+
+namespace fs = std::filesystem;
+
+constexpr const char* kColumnFamilies[] = {"default", "meta",
+                                           "postings", "signatures", "docs", "decisions", "edges"};
+
+Status FromRocks(const rocksdb::Status& s, const std::string& what) {
+  if (s.ok()) return Status::Ok();
+  if (s.IsNotFound()) return Status::NotFound(what + ": " + s.ToString());
+  if (s.IsCorruption()) return Status::Corruption(what + ": " + s.ToString());
+  if (s.IsIOError()) return Status::IoError(what + ": " + s.ToString());
+  return Status::Internal(what + ": " + s.ToString());
+}
+
+std::string Key64(uint64_t k) {
+  std::string s;
+  PutBigEndian64(&s, k);
+  return s;
+}
+
+rocksdb::ColumnFamilyOptions FamilyOptions(bool point_lookups) {
+  rocksdb::ColumnFamilyOptions cf;
+  cf.write_buffer_size = 64 << 20;
+  rocksdb::BlockBasedTableOptions table;
+  if (point_lookups) table.filter_policy.reset(rocksdb::NewBloomFilterPolicy(10));
+  cf.table_factory.reset(rocksdb::NewBlockBasedTableFactory(table));
+  return cf;
+}
+
+}  // namespace
+
+// ---- WriteBatchBuilder --------------------------------------------------------
+
+WriteBatchBuilder::WriteBatchBuilder(const IndexStore* store)
+    : store_(store), batch_(std::make_unique<rocksdb::WriteBatch>()) {}
+WriteBatchBuilder::~WriteBatchBuilder() = default;
+
+void WriteBatchBuilder::AddDocument(const DocumentMeta& doc, const uint32_t* sig, int k,
+                                    const uint64_t* buckets) {
+  const std::string key = Key64(doc.key);
+  batch_->Put(store_->docs_, key, IndexStore::EncodeDocument(doc));
+  value_.clear();
+  for (int i = 0; i < k; ++i) PutFixed32(&value_, sig[i]);
+  batch_->Put(store_->signatures_, key, value_);
+  for (int band = 0; band < store_->scheme_.bands; ++band) {
+    key_.clear();
+    PutBigEndian16(&key_, static_cast<uint16_t>(band));
+    PutBigEndian64(&key_, buckets[band]);
+    PutBigEndian64(&key_, doc.key);
+    batch_->Put(store_->postings_, key_, rocksdb::Slice());
+  }
+  ++count_;
+}
+
+void WriteBatchBuilder::AddDecision(const Decision& d) {
+  value_.clear();
+  PutBigEndian64(&value_, d.cluster);
+  PutBigEndian64(&value_, d.kept_key);
+  uint32_t bits;
+  std::memcpy(&bits, &d.similarity, 4);
+  PutFixed32(&value_, bits);
+  PutVarint(&value_, d.cluster_size);
+  batch_->Put(store_->decisions_, Key64(d.key), value_);
+  ++count_;
+}
+
+void WriteBatchBuilder::AddEdge(const Edge& e) {
+  // Stored in both directions so EdgesOf() is one prefix scan.
+  uint32_t bits;
+  std::memcpy(&bits, &e.similarity, 4);
+  value_.clear();
+  PutFixed32(&value_, bits);
+  PutVarint(&value_, e.band);
+  for (int dir = 0; dir < 2; ++dir) {
+    key_.clear();
+    PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
+    PutBigEndian64(&key_, dir == 0 ? e.b : e.a);
+    batch_->Put(store_->edges_, key_, value_);
+  }
+  ++count_;
+}
+
+// ---- IndexStore ---------------------------------------------------------------
+
+IndexStore::~IndexStore() {
+  if (db_) {
+    for (auto* h : handles_) db_->DestroyColumnFamilyHandle(h);
+    db_->Close();
+  }
+}
+
+StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string& path,
+                                                               bool create,
+                                                               const StoreOptions& options) {
+  rocksdb::DBOptions db_options;
+  db_options.create_if_missing = create;
+  db_options.error_if_exists = create;
+  db_options.create_missing_column_families = create;
+  db_options.max_background_jobs = 2;
+  std::vector<rocksdb::ColumnFamilyDescriptor> families;
+  for (const char* name : kColumnFamilies) {
+    bool point = std::strcmp(name, "postings") != 0;
+    families.emplace_back(name, FamilyOptions(point));
+  }
+  auto store = std::unique_ptr<IndexStore>(new IndexStore());
+  store->path_ = path;
+  store->options_ = options;
+  rocksdb::DB* raw = nullptr;
+  rocksdb::Status s =
+      options.read_only
+          ? rocksdb::DB::OpenForReadOnly(db_options, path, families, &store->handles_, &raw)
+          : rocksdb::DB::Open(db_options, path, families, &store->handles_, &raw);
+  if (!s.ok()) {
+    if (!create && !fs::exists(fs::path(path) / "CURRENT")) {
+      return Status::NotFound("no index at " + path);
+    }
+    return FromRocks(s, "opening index " + path);
+  }
+  store->db_.reset(raw);
+  store->meta_ = store->handles_[1];
+  store->postings_ = store->handles_[2];
+  store->signatures_ = store->handles_[3];
+  store->docs_ = store->handles_[4];
+  store->decisions_ = store->handles_[5];
+  store->edges_ = store->handles_[6];
+  return store;
+}
+
+StatusOr<std::unique_ptr<IndexStore>> IndexStore::Create(const std::string& path,
+                                                         const SketchScheme& scheme,
+                                                         const StoreOptions& options) {
+  SHINGLETON_RETURN_IF_ERROR(scheme.Validate());
+  if (fs::exists(path) && !fs::is_empty(path)) {
+    return Status::AlreadyExists("index path " + path + " exists and is not empty");
+  }
+  StoreOptions opts = options;
+  opts.read_only = false;
+  SHINGLETON_ASSIGN_OR_RETURN(auto store, OpenInternal(path, true, opts));
+  store->scheme_ = scheme;
+  rocksdb::WriteBatch batch;
+  batch.Put(store->meta_, "layout", std::to_string(kLayoutVersion));
+  batch.Put(store->meta_, "scheme", scheme.Serialize());
+  rocksdb::WriteOptions wo;
+  wo.sync = true;
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(store->db_->Write(wo, &batch), "writing index header"));
+  return store;
+}
+
+Status IndexStore::CheckLayoutAndScheme(const SketchScheme* expected) {
+  std::string layout, scheme_text;
+  rocksdb::Status s = db_->Get(rocksdb::ReadOptions(), meta_, "layout", &layout);
+  if (s.IsNotFound()) return Status::Corruption(path_ + " is not a Shingleton index (no layout record)");
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(s, "reading layout of " + path_));
+  if (layout != std::to_string(kLayoutVersion)) {
+    return Status::Mismatch("index " + path_ + " has layout version " + layout +
+                            "; this build reads layout version " + std::to_string(kLayoutVersion));
+  }
+  SHINGLETON_RETURN_IF_ERROR(
+      FromRocks(db_->Get(rocksdb::ReadOptions(), meta_, "scheme", &scheme_text),
+                "reading scheme of " + path_));
+  auto parsed = SketchScheme::Parse(scheme_text);
+  if (!parsed.ok()) return parsed.status().WithContext("index " + path_);
+  scheme_ = parsed.value();
+  if (expected && *expected != scheme_) {
+    return Status::Mismatch("index " + path_ + " was built with a different sketch scheme (" +
+                            scheme_.DescribeDifference(*expected) + "; index vs requested). " +
+                            "Index: " + scheme_.Serialize() + "; requested: " +
+                            expected->Serialize());
+  }
+  return Status::Ok();
+}
+
+StatusOr<std::unique_ptr<IndexStore>> IndexStore::Open(const std::string& path,
+                                                       const SketchScheme* expected,
+                                                       const StoreOptions& options) {
+  if (!fs::exists(path)) return Status::NotFound("no index at " + path);
+  SHINGLETON_ASSIGN_OR_RETURN(auto store, OpenInternal(path, false, options));
+  SHINGLETON_RETURN_IF_ERROR(store->CheckLayoutAndScheme(expected));
+  return store;
+}
+
+StatusOr<SketchScheme> IndexStore::ReadScheme(const std::string& path) {
+  StoreOptions ro;
+  ro.read_only = true;
+  SHINGLETON_ASSIGN_OR_RETURN(auto store, Open(path, nullptr, ro));
+  return store->scheme();
+}
+
+Status IndexStore::Write(WriteBatchBuilder* batch) {
+  rocksdb::WriteOptions wo;
+  wo.disableWAL = options_.bulk_load;
+  Status s = FromRocks(db_->Write(wo, batch->batch_.get()), "writing to index " + path_);
+  batch->batch_->Clear();
+  batch->count_ = 0;
+  return s;
+}
+
+Status IndexStore::PutJobRecord(const std::string& json) {
+  rocksdb::WriteOptions wo;
+  wo.disableWAL = options_.bulk_load;
+  return FromRocks(db_->Put(wo, meta_, "job", json), "writing job record to " + path_);
+}
+
+StatusOr<std::string> IndexStore::GetJobRecord() {
+  std::string v;
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(db_->Get(rocksdb::ReadOptions(), meta_, "job", &v),
+                                       "reading job record of " + path_));
+  return v;
+}
+
+Status IndexStore::Flush() {
+  rocksdb::FlushOptions fo;
+  fo.wait = true;
+  return FromRocks(db_->Flush(fo, handles_), "flushing index " + path_);
+}
+
+Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) const {
+  std::string lo, hi;
+  PutBigEndian16(&lo, static_cast<uint16_t>(band));
+  PutBigEndian16(&hi, static_cast<uint16_t>(band + 1));
+  rocksdb::ReadOptions ro;
+  rocksdb::Slice upper(hi);
+  if (band + 1 <= 0xFFFF) ro.iterate_upper_bound = &upper;
+  ro.fill_cache = false;
+  ro.readahead_size = 2 << 20;
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
+  std::vector<uint64_t> members;
+  uint64_t current = 0;
+  auto emit = [&]() -> Status {
+    if (members.size() >= min_size) return fn(band, current, members);
+    return Status::Ok();
+  };
+  for (it->Seek(lo); it->Valid(); it->Next()) {
+    rocksdb::Slice k = it->key();
+    if (k.size() != 18) return Status::Corruption("posting key of size " + std::to_string(k.size()));
+    uint64_t bucket = GetBigEndian64(k.data() + 2);
+    if (!members.empty() && bucket != current) {
+      SHINGLETON_RETURN_IF_ERROR(emit());
+      members.clear();
+    }
+    current = bucket;
+    members.push_back(GetBigEndian64(k.data() + 10));
+  }
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "scanning postings of " + path_));
+  if (!members.empty()) SHINGLETON_RETURN_IF_ERROR(emit());
+  return Status::Ok();
+}
+
+StatusOr<DocumentMeta> IndexStore::GetDocument(uint64_t key) const {
+  std::string v;
+  SHINGLETON_RETURN_IF_ERROR(
+      FromRocks(db_->Get(rocksdb::ReadOptions(), docs_, Key64(key), &v), "reading document"));
+  return DecodeDocument(key, v);
+}
+
+StatusOr<std::vector<uint32_t>> IndexStore::GetSignature(uint64_t key) const {
+  std::string v;
+  SHINGLETON_RETURN_IF_ERROR(
+      FromRocks(db_->Get(rocksdb::ReadOptions(), signatures_, Key64(key), &v), "reading signature"));
+  if (v.size() != 4 * static_cast<size_t>(scheme_.num_hashes)) {
+    return Status::Corruption("signature of size " + std::to_string(v.size()) + " bytes");
+  }
+  std::vector<uint32_t> sig(scheme_.num_hashes);
+  Decoder d(v);
+  for (auto& x : sig) x = d.Fixed32();
+  return sig;
+}
+
+StatusOr<Decision> IndexStore::GetDecision(uint64_t key) const {
+  std::string v;
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(db_->Get(rocksdb::ReadOptions(), decisions_, Key64(key), &v),
+                                       "reading decision"));
+  if (v.size() < 21) return Status::Corruption("decision record too short");
+  Decision d;
+  d.key = key;
+  d.cluster = GetBigEndian64(v.data());
+  d.kept_key = GetBigEndian64(v.data() + 8);
+  Decoder dec(std::string_view(v).substr(16));
+  uint32_t bits = dec.Fixed32();
+  std::memcpy(&d.similarity, &bits, 4);
+  d.cluster_size = static_cast<uint32_t>(dec.Varint());
+  if (!dec.ok()) return Status::Corruption("bad decision record");
+  return d;
+}
+
+StatusOr<std::vector<Edge>> IndexStore::EdgesOf(uint64_t key) const {
+  std::vector<Edge> out;
+  const std::string prefix = Key64(key);
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(rocksdb::ReadOptions(), edges_));
+  for (it->Seek(prefix); it->Valid() && it->key().starts_with(prefix); it->Next()) {
+    if (it->key().size() != 16) return Status::Corruption("bad edge key");
+    uint64_t other = GetBigEndian64(it->key().data() + 8);
+    Decoder dec(std::string_view(it->value().data(), it->value().size()));
+    uint32_t bits = dec.Fixed32();
+    Edge e;
+    e.a = std::min(key, other);
+    e.b = std::max(key, other);
+    std::memcpy(&e.similarity, &bits, 4);
+    e.band = static_cast<uint16_t>(dec.Varint());
+    if (!dec.ok()) return Status::Corruption("bad edge record");
+    out.push_back(e);
+  }
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "scanning edges"));
+  return out;
+}
+
+std::string IndexStore::EncodeDocument(const DocumentMeta& doc) {
+  std::string v;
+  PutVarint(&v, doc.ordinal);
+  PutVarint(&v, doc.text_bytes);
+  PutVarint(&v, doc.tokens);
+  PutDouble(&v, doc.rank);
+  PutLengthPrefixed(&v, doc.id);
+  PutLengthPrefixed(&v, doc.url);
+  PutLengthPrefixed(&v, doc.source);
+  PutLengthPrefixed(&v, doc.excerpt);
+  return v;
+}
+
+StatusOr<DocumentMeta> IndexStore::DecodeDocument(uint64_t key, std::string_view value) {
+  Decoder d(value);
+  DocumentMeta doc;
+  doc.key = key;
+  doc.ordinal = d.Varint();
+  doc.text_bytes = d.Varint();
+  doc.tokens = d.Varint();
+  doc.rank = d.Double();
+  doc.id = std::string(d.LengthPrefixed());
+  doc.url = std::string(d.LengthPrefixed());
+  doc.source = std::string(d.LengthPrefixed());
+  doc.excerpt = std::string(d.LengthPrefixed());
+  if (!d.ok()) return Status::Corruption("bad document record");
+  return doc;
+}
+
+}  // namespace shingleton

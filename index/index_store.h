@@ -1,0 +1,135 @@
+// IndexStore: the banded LSH index persisted in RocksDB.
+//
+// Layout (kLayoutVersion = 1), one column family per kind of data:
+//   meta        "layout" -> decimal layout version; "scheme" -> SketchScheme::Serialize();
+//               "job" -> the last job's summary JSON
+//   postings    band (u16 BE) | bucket (u64 BE) | doc key (u64 BE) -> ""   (one key per
+//               posting: written without read-modify-write; a bucket is a key-range scan)
+//   signatures  doc key (u64 BE) -> k x u32 little-endian
+//   docs        doc key (u64 BE) -> DocumentMeta (see EncodeDocument)
+//   decisions   doc key (u64 BE) -> cluster, kept key, similarity, cluster size
+//   edges       key a (u64 BE) | key b (u64 BE) -> similarity (f32 as u32 bits), band
+// Open() checks the layout version and the scheme and refuses mismatches with a
+// message that names both. Every rocksdb::Status is converted here.
+//
+// Thread safety: all methods may be called concurrently (RocksDB is thread-safe);
+// a WriteBatchBuilder belongs to one thread.
+#pragma once
+
+#include <cstdint>
+#include <functional>
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "index/document.h"
+#include "index/scheme.h"
+#include "index/status.h"
+
+namespace rocksdb {
+class DB;
+class ColumnFamilyHandle;
+class WriteBatch;
+}  // namespace rocksdb
+
+namespace shingleton {
+
+inline constexpr int kLayoutVersion = 1;
+
+struct StoreOptions {
+  // Bulk-build mode: writes skip the WAL; durability comes from Flush() before the
+  // index is published (the embedded job builds into a temporary directory and
+  // renames it only after success). Default: false (every write goes to the WAL).
+  bool bulk_load = false;
+  // Open without write access (frozen or inspected indexes). Default: false.
+  bool read_only = false;
+};
+
+// Collects the writes for many documents into one RocksDB WriteBatch.
+class WriteBatchBuilder {
+ public:
+  // REQUIRES: `store` outlives the builder.
+  explicit WriteBatchBuilder(const class IndexStore* store);
+  ~WriteBatchBuilder();
+  WriteBatchBuilder(const WriteBatchBuilder&) = delete;
+  WriteBatchBuilder& operator=(const WriteBatchBuilder&) = delete;
+
+  // `sig` has k values; `buckets` has one bucket per band.
+  void AddDocument(const DocumentMeta& doc, const uint32_t* sig, int k, const uint64_t* buckets);
+  void AddDecision(const Decision& d);
+  void AddEdge(const Edge& e);
+  size_t count() const { return count_; }
+
+ private:
+  friend class IndexStore;
+  const IndexStore* store_;
+  size_t count_ = 0;
+  std::string key_, value_;  // scratch
+  std::unique_ptr<rocksdb::WriteBatch> batch_;
+};
+
+class IndexStore {
+ public:
+  ~IndexStore();
+  IndexStore(const IndexStore&) = delete;
+  IndexStore& operator=(const IndexStore&) = delete;
+
+  // Creates a new, empty index at `path`. Fails if anything exists there.
+  static StatusOr<std::unique_ptr<IndexStore>> Create(const std::string& path,
+                                                      const SketchScheme& scheme,
+                                                      const StoreOptions& options = {});
+  // Opens an existing index. When `expected` is given, the stored scheme must
+  // equal it (Status::Mismatch otherwise).
+  static StatusOr<std::unique_ptr<IndexStore>> Open(const std::string& path,
+                                                    const SketchScheme* expected,
+                                                    const StoreOptions& options = {});
+  // Reads the stored scheme of the index at `path` without keeping it open.
+  static StatusOr<SketchScheme> ReadScheme(const std::string& path);
+
+  const SketchScheme& scheme() const { return scheme_; }
+  const std::string& path() const { return path_; }
+
+  // Applies and clears the batch atomically.
+  Status Write(WriteBatchBuilder* batch);
+  Status PutJobRecord(const std::string& json);
+  StatusOr<std::string> GetJobRecord();
+  // Flushes memtables to SST files (used before publishing a bulk-built index).
+  Status Flush();
+
+  // Calls fn(band, bucket, doc keys sorted ascending) for every bucket of `band`
+  // holding at least `min_size` documents, in bucket order. Stops at the first
+  // non-OK status fn returns and passes it on.
+  using BucketFn = std::function<Status(int band, uint64_t bucket, const std::vector<uint64_t>&)>;
+  Status ForEachBucket(int band, size_t min_size, const BucketFn& fn) const;
+
+  StatusOr<DocumentMeta> GetDocument(uint64_t key) const;
+  StatusOr<std::vector<uint32_t>> GetSignature(uint64_t key) const;
+  StatusOr<Decision> GetDecision(uint64_t key) const;
+  // Every stored edge touching `key`.
+  StatusOr<std::vector<Edge>> EdgesOf(uint64_t key) const;
+
+  // Value encodings (exposed for tests and tools).
+  static std::string EncodeDocument(const DocumentMeta& doc);
+  static StatusOr<DocumentMeta> DecodeDocument(uint64_t key, std::string_view value);
+
+ private:
+  friend class WriteBatchBuilder;
+  IndexStore() = default;
+  static StatusOr<std::unique_ptr<IndexStore>> OpenInternal(const std::string& path, bool create,
+                                                            const StoreOptions& options);
+  Status CheckLayoutAndScheme(const SketchScheme* expected);
+
+  std::string path_;
+  StoreOptions options_;
+  SketchScheme scheme_;
+  std::unique_ptr<rocksdb::DB> db_;
+  std::vector<rocksdb::ColumnFamilyHandle*> handles_;  // owned; destroyed before db_
+  rocksdb::ColumnFamilyHandle* meta_ = nullptr;
+  rocksdb::ColumnFamilyHandle* postings_ = nullptr;
+  rocksdb::ColumnFamilyHandle* signatures_ = nullptr;
+  rocksdb::ColumnFamilyHandle* docs_ = nullptr;
+  rocksdb::ColumnFamilyHandle* decisions_ = nullptr;
+  rocksdb::ColumnFamilyHandle* edges_ = nullptr;
+};
+
+}  // namespace shingleton

@@ -1,0 +1,199 @@
+#include "index/ingest_pipeline.h"
+
+#include <oneapi/tbb/enumerable_thread_specific.h>
+#include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/task_arena.h>
+
+#include <atomic>
+#include <filesystem>
+#include <memory>
+#include <thread>
+
+#include "index/line_reader.h"
+#include "index/signer.h"
+
+namespace shingleton {
+namespace {
+
+// The lines of one batch, copied into one buffer followed by simdjson padding.
+struct RawBatch {
+  size_t file_index = 0;
+  std::string buffer;
+  struct Line {
+    size_t offset, length;
+    uint64_t number;
+  };
+  std::vector<Line> lines;
+  uint64_t raw_bytes_done = 0;
+};
+
+// Reads the inputs in order, one batch at a time. Owned by the serial stage.
+class BatchReader {
+ public:
+  BatchReader(const IngestOptions& options) : options_(options) {}
+
+  // Returns nullptr at the end or on error (then status() is set).
+  std::unique_ptr<RawBatch> Next() {
+    auto batch = std::make_unique<RawBatch>();
+    while (batch->lines.empty()) {
+      if (!reader_ && !OpenNext()) return nullptr;
+      batch->file_index = file_index_;
+      std::string_view line;
+      while (batch->lines.size() < options_.batch_lines &&
+             batch->buffer.size() < options_.batch_bytes && reader_->Next(&line)) {
+        if (line.find_first_not_of(" \t") == std::string_view::npos) continue;  // blank line
+        batch->lines.push_back({batch->buffer.size(), line.size(), reader_->line_number()});
+        batch->buffer.append(line.data(), line.size());
+        batch->buffer.push_back('\n');
+      }
+      if (!reader_->status().ok()) {
+        status_ = reader_->status();
+        return nullptr;
+      }
+      if (batch->lines.size() < options_.batch_lines && batch->buffer.size() < options_.batch_bytes) {
+        // This file is exhausted.
+        done_bytes_ += reader_->raw_offset();
+        reader_.reset();
+        ++file_index_;
+        if (!batch->lines.empty()) break;
+      }
+    }
+    batch->buffer.append(simdjson::SIMDJSON_PADDING, ' ');
+    batch->raw_bytes_done = done_bytes_ + (reader_ ? reader_->raw_offset() : 0);
+    return batch;
+  }
+  const Status& status() const { return status_; }
+
+ private:
+  bool OpenNext() {
+    if (file_index_ >= options_.inputs.size()) return false;
+    reader_ = std::make_unique<LineReader>();
+    status_ = reader_->Open(options_.inputs[file_index_]);
+    return status_.ok();
+  }
+
+  const IngestOptions& options_;
+  size_t file_index_ = 0;
+  std::unique_ptr<LineReader> reader_;
+  uint64_t done_bytes_ = 0;
+  Status status_;
+};
+
+// Per-thread parse + sign state.
+struct Worker {
+  Worker(const IngestOptions& o, const SketchScheme& s) : parser(o.fields), signer(s) {}
+  RecordParser parser;
+  Signer signer;
+};
+
+std::string ExcerptOf(std::string_view text, size_t max_bytes) {
+  if (text.size() <= max_bytes) return std::string(text);
+  size_t n = max_bytes;
+  while (n > 0 && (static_cast<unsigned char>(text[n]) & 0xC0) == 0x80) --n;  // whole code points
+  return std::string(text.substr(0, n));
+}
+
+std::unique_ptr<SignedBatch> SignBatch(const RawBatch& raw, const IngestOptions& options,
+                                       const SketchScheme& scheme, Worker* w) {
+  auto out = std::make_unique<SignedBatch>();
+  const size_t n = raw.lines.size();
+  const int k = scheme.num_hashes, b = scheme.bands;
+  out->records.resize(n);
+  out->sigs.resize(n * k);
+  out->buckets.resize(n * b);
+  out->raw_bytes_done = raw.raw_bytes_done;
+  const std::string& file = options.inputs[raw.file_index];
+  for (size_t i = 0; i < n; ++i) {
+    const RawBatch::Line& line = raw.lines[i];
+    SignedRecord& rec = out->records[i];
+    rec.meta.source = file + ":" + std::to_string(line.number);
+    out->text_bytes += line.length + 1;
+    ParsedRecord parsed;
+    Status s = w->parser.Parse(raw.buffer.data() + line.offset, line.length,
+                               raw.buffer.size() - line.offset, &parsed, &rec.bad);
+    if (!s.ok()) {
+      rec.error = s.WithContext(rec.meta.source);
+      continue;
+    }
+    rec.meta.id = std::string(parsed.id);
+    rec.meta.key = DocKey(parsed.id);
+    rec.meta.url = std::string(parsed.url);
+    rec.meta.rank = parsed.rank;
+    rec.meta.text_bytes = parsed.text.size();
+    rec.meta.excerpt = ExcerptOf(parsed.text, options.excerpt_bytes);
+    rec.meta.tokens = w->signer.Sign(parsed.text, &out->sigs[i * k], &out->buckets[i * b]);
+  }
+  return out;
+}
+
+}  // namespace
+
+StatusOr<uint64_t> InputBytes(const std::vector<std::string>& inputs) {
+  uint64_t total = 0;
+  for (const auto& path : inputs) {
+    std::error_code ec;
+    auto size = std::filesystem::file_size(path, ec);
+    if (ec) return Status::IoError("cannot read " + path + ": " + ec.message());
+    total += size;
+  }
+  return total;
+}
+
+Status RunIngestPipeline(const IngestOptions& options, const SketchScheme& scheme,
+                         const BatchSink& sink) {
+  const int threads = options.threads > 0 ? options.threads
+                                          : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  const size_t in_flight =
+      options.max_batches_in_flight ? options.max_batches_in_flight : 2 * threads + 2;
+  BatchReader reader(options);
+  Status sink_status;
+  std::atomic<bool> stop{false};
+  // One Worker per TBB thread, created on first use.
+  tbb::enumerable_thread_specific<std::unique_ptr<Worker>> workers;
+  auto get_worker = [&]() -> Worker* {
+    auto& w = workers.local();
+    if (!w) w = std::make_unique<Worker>(options, scheme);
+    return w.get();
+  };
+
+  tbb::task_arena arena(threads);
+  arena.execute([&] {
+    tbb::parallel_pipeline(
+        in_flight,
+        tbb::make_filter<void, RawBatch*>(
+            tbb::filter_mode::serial_in_order,
+            [&](tbb::flow_control& fc) -> RawBatch* {
+              if (stop.load()) {
+                fc.stop();
+                return nullptr;
+              }
+              auto batch = reader.Next();
+              if (!batch) {
+                fc.stop();
+                return nullptr;
+              }
+              return batch.release();
+            }) &
+            tbb::make_filter<RawBatch*, SignedBatch*>(
+                tbb::filter_mode::parallel,
+                [&](RawBatch* raw) -> SignedBatch* {
+                  std::unique_ptr<RawBatch> owned(raw);
+                  if (stop.load()) return nullptr;
+                  return SignBatch(*raw, options, scheme, get_worker()).release();
+                }) &
+            tbb::make_filter<SignedBatch*, void>(
+                tbb::filter_mode::serial_in_order, [&](SignedBatch* batch) {
+                  std::unique_ptr<SignedBatch> owned(batch);
+                  if (!batch || stop.load()) return;
+                  Status s = sink(*batch);
+                  if (!s.ok()) {
+                    sink_status = s;
+                    stop.store(true);
+                  }
+                }));
+  });
+  if (!sink_status.ok()) return sink_status;
+  return reader.status();
+}
+
+}  // namespace shingleton

@@ -1,0 +1,47 @@
+// JsonWriter: builds one JSON value as text (RFC 8259), with correct string
+// escaping. Used for manifests, summaries and --json output.
+//
+//   JsonWriter w; w.BeginObject(); w.Key("id"); w.String("a"); w.EndObject();
+//
+// Thread safety: one writer per thread.
+#pragma once
+
+#include <cstdint>
+#include <string>
+#include <string_view>
+#include <vector>
+
+namespace shingleton {
+
+// Appends `s` as a quoted JSON string. REQUIRES: s is valid UTF-8.
+void AppendJsonString(std::string* out, std::string_view s);
+
+class JsonWriter {
+ public:
+  void BeginObject() { Open('{'); }
+  void EndObject() { Close('}'); }
+  void BeginArray() { Open('['); }
+  void EndArray() { Close(']'); }
+  void Key(std::string_view k);
+  void String(std::string_view v);
+  void Int(int64_t v);
+  void Uint(uint64_t v);
+  // Fixed notation with `digits` decimals; NaN and infinities are written as null.
+  void Double(double v, int digits = 4);
+  void Bool(bool v);
+  void Null();
+
+  const std::string& str() const { return out_; }
+  std::string Take() { return std::move(out_); }
+  void Clear() { out_.clear(); first_.clear(); after_key_ = false; }
+
+ private:
+  void Open(char c);
+  void Close(char c);
+  void Separate();
+  std::string out_;
+  std::vector<bool> first_;  // per open container: no element written yet
+  bool after_key_ = false;
+};
+
+}  // namespace shingleton

@@ -1,0 +1,37 @@
+// Keep/drop manifests: the job's decisions as JSON Lines, in input order.
+//
+//   keep.jsonl  {"id": ..., "cluster": "<16 hex>", "cluster_size": N}
+//   drop.jsonl  {"id": ..., "duplicate_of": <kept id>, "cluster": "<16 hex>",
+//                "similarity": <estimated Jaccard to the kept document>}
+// The cluster label is the kept document's 64-bit key in hex: stable across runs
+// and independent of shard, thread and input order. Every document appears in
+// exactly one of the two files.
+//
+// Thread safety: one owner.
+#pragma once
+
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "index/atomic_file.h"
+#include "index/doc_table.h"
+
+namespace shingleton {
+
+std::string ClusterLabel(uint64_t kept_key);
+
+class ManifestWriter {
+ public:
+  // Writes both files to temporaries in `dir` (invisible until Commit()).
+  // REQUIRES: decisions[i] belongs to docs.doc(i).
+  Status Prepare(const std::string& dir, const DocTable& docs,
+                 const std::vector<Decision>& decisions);
+  // Renames both into place.
+  Status Commit();
+
+ private:
+  std::unique_ptr<AtomicFile> keep_, drop_;
+};
+
+}  // namespace shingleton

@@ -1,0 +1,133 @@
+#include "index/normalizer.h"
+
+#include <utf8proc.h>
+
+#include <cstdlib>
+#include <memory>
+
+namespace shingleton {
+namespace {
+
+bool IsTokenCategory(utf8proc_int32_t cp) {
+  switch (utf8proc_category(cp)) {
+    case UTF8PROC_CATEGORY_LU: case UTF8PROC_CATEGORY_LL: case UTF8PROC_CATEGORY_LT:
+    case UTF8PROC_CATEGORY_LM: case UTF8PROC_CATEGORY_LO:
+    case UTF8PROC_CATEGORY_MN: case UTF8PROC_CATEGORY_MC: case UTF8PROC_CATEGORY_ME:
+    case UTF8PROC_CATEGORY_ND: case UTF8PROC_CATEGORY_NL: case UTF8PROC_CATEGORY_NO:
+      return true;
+    default:
+      return false;
+  }
+}
+
+bool IsAscii(std::string_view s) {
+  unsigned char acc = 0;
+  for (unsigned char c : s) acc |= c;
+  return acc < 0x80;
+}
+
+bool IsAsciiAlnum(unsigned char c) {
+  return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z');
+}
+
+struct FreeDeleter {
+  void operator()(utf8proc_uint8_t* p) const { std::free(p); }
+};
+
+// Appends one code point to a token stream, opening a token when needed.
+class TokenBuilder {
+ public:
+  explicit TokenBuilder(NormalizedText* out) : out_(out) {
+    out_->text.clear();
+    out_->starts.clear();
+  }
+  void Separator() { in_token_ = false; }
+  void Append(const char* bytes, size_t n) {
+    if (!in_token_) {
+      if (!out_->text.empty()) out_->text.push_back(' ');
+      out_->starts.push_back(static_cast<uint32_t>(out_->text.size()));
+      in_token_ = true;
+    }
+    out_->text.append(bytes, n);
+  }
+
+ private:
+  NormalizedText* out_;
+  bool in_token_ = false;
+};
+
+}  // namespace
+
+Status ValidateUtf8(std::string_view text) {
+  const auto* p = reinterpret_cast<const utf8proc_uint8_t*>(text.data());
+  size_t i = 0;
+  while (i < text.size()) {
+    if (p[i] < 0x80) { ++i; continue; }
+    utf8proc_int32_t cp;
+    utf8proc_ssize_t n = utf8proc_iterate(p + i, static_cast<utf8proc_ssize_t>(text.size() - i), &cp);
+    if (n < 0) return Status::BadInput("invalid UTF-8 at byte " + std::to_string(i) + " of the text");
+    i += static_cast<size_t>(n);
+  }
+  return Status::Ok();
+}
+
+StatusOr<std::string> Nfkc(std::string_view text) {
+  utf8proc_uint8_t* raw = nullptr;
+  utf8proc_ssize_t n = utf8proc_map(reinterpret_cast<const utf8proc_uint8_t*>(text.data()),
+                                    static_cast<utf8proc_ssize_t>(text.size()), &raw,
+                                    static_cast<utf8proc_option_t>(UTF8PROC_STABLE | UTF8PROC_COMPAT |
+                                                                   UTF8PROC_COMPOSE));
+  std::unique_ptr<utf8proc_uint8_t, FreeDeleter> owned(raw);
+  if (n < 0) return Status::BadInput(std::string("NFKC failed: ") + utf8proc_errmsg(n));
+  return std::string(reinterpret_cast<const char*>(raw), static_cast<size_t>(n));
+}
+
+void Normalizer::Normalize(std::string_view input, NormalizedText* out) {
+  if (IsAscii(input)) {
+    NormalizeAscii(input, out);
+  } else {
+    NormalizeUnicode(input, out);
+  }
+}
+
+// ASCII is NFKC-stable, folds case by A-Z -> a-z, and its token characters
+// (categories L*, N*) are exactly [0-9A-Za-z].
+void Normalizer::NormalizeAscii(std::string_view input, NormalizedText* out) {
+  TokenBuilder tokens(out);
+  out->text.reserve(input.size());
+  for (unsigned char c : input) {
+    if (IsAsciiAlnum(c)) {
+      char lower = static_cast<char>((c >= 'A' && c <= 'Z') ? c + 32 : c);
+      tokens.Append(&lower, 1);
+    } else {
+      tokens.Separator();
+    }
+  }
+}
+
+void Normalizer::NormalizeUnicode(std::string_view input, NormalizedText* out) {
+  TokenBuilder tokens(out);
+  utf8proc_uint8_t* raw = nullptr;
+  utf8proc_ssize_t n = utf8proc_map(
+      reinterpret_cast<const utf8proc_uint8_t*>(input.data()),
+      static_cast<utf8proc_ssize_t>(input.size()), &raw,
+      static_cast<utf8proc_option_t>(UTF8PROC_STABLE | UTF8PROC_COMPAT | UTF8PROC_COMPOSE |
+                                     UTF8PROC_CASEFOLD));
+  std::unique_ptr<utf8proc_uint8_t, FreeDeleter> owned(raw);
+  if (n < 0) return;  // only on invalid UTF-8, excluded by the precondition
+  out->text.reserve(static_cast<size_t>(n));
+  utf8proc_ssize_t i = 0;
+  while (i < n) {
+    utf8proc_int32_t cp;
+    utf8proc_ssize_t len = utf8proc_iterate(raw + i, n - i, &cp);
+    if (len <= 0) break;
+    if (IsTokenCategory(cp)) {
+      tokens.Append(reinterpret_cast<const char*>(raw + i), static_cast<size_t>(len));
+    } else {
+      tokens.Separator();
+    }
+    i += len;
+  }
+}
+
+}  // namespace shingleton

@@ -1,0 +1,21 @@
+#include "index/signer.h"
+
+#include "index/bands.h"
+#include "index/shingler.h"
+
+namespace shingleton {
+
+Signer::Signer(const SketchScheme& scheme)
+    : scheme_(scheme), hasher_(scheme.num_hashes, scheme.seed) {}
+
+size_t Signer::Sign(std::string_view text, uint32_t* sig, uint64_t* buckets) {
+  normalizer_.Normalize(text, &normalized_);
+  ShingleHashes(normalized_, scheme_.shingle_kind, scheme_.shingle_size, scheme_.seed, &shingles_);
+  hasher_.Sign(shingles_.data(), shingles_.size(), sig);
+  for (int band = 0; band < scheme_.bands; ++band) {
+    buckets[band] = BandBucket(sig, band, scheme_.rows, scheme_.seed);
+  }
+  return normalized_.num_tokens();
+}
+
+}  // namespace shingleton

@@ -1,0 +1,36 @@
+// Signer: raw text -> MinHash signature and LSH band buckets, under one scheme.
+// Composes Normalizer -> ShingleHashes -> MinHasher -> BandBucket.
+//
+// Thread safety: a Signer owns scratch buffers; use one per thread.
+#pragma once
+
+#include <cstdint>
+#include <string_view>
+#include <vector>
+
+#include "index/minhash.h"
+#include "index/normalizer.h"
+#include "index/scheme.h"
+
+namespace shingleton {
+
+class Signer {
+ public:
+  // REQUIRES: scheme.Validate().ok().
+  explicit Signer(const SketchScheme& scheme);
+
+  // REQUIRES: text is valid UTF-8. Writes scheme.num_hashes values to sig and
+  // scheme.bands buckets to buckets; returns the number of tokens.
+  size_t Sign(std::string_view text, uint32_t* sig, uint64_t* buckets);
+
+  const SketchScheme& scheme() const { return scheme_; }
+
+ private:
+  SketchScheme scheme_;
+  MinHasher hasher_;
+  Normalizer normalizer_;
+  NormalizedText normalized_;
+  std::vector<uint64_t> shingles_;
+};
+
+}  // namespace shingleton

@@ -1,0 +1,33 @@
+#include "index/status.h"
+
+namespace shingleton {
+namespace {
+
+const char* CodeName(Status::Code code) {
+  switch (code) {
+    case Status::Code::kOk: return "ok";
+    case Status::Code::kInvalidArgument: return "invalid argument";
+    case Status::Code::kBadInput: return "bad input";
+    case Status::Code::kNotFound: return "not found";
+    case Status::Code::kAlreadyExists: return "already exists";
+    case Status::Code::kMismatch: return "mismatch";
+    case Status::Code::kIoError: return "I/O error";
+    case Status::Code::kCorruption: return "corruption";
+    case Status::Code::kInternal: return "internal error";
+  }
+  return "unknown";
+}
+
+}  // namespace
+
+std::string Status::ToString() const {
+  if (ok()) return "ok";
+  return std::string(CodeName(code_)) + ": " + message_;
+}
+
+Status Status::WithContext(const std::string& context) const {
+  if (ok()) return *this;
+  return Status(code_, context + ": " + message_);
+}
+
+}  // namespace shingleton
