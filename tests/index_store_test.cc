@@ -1,0 +1,159 @@
+// IndexStore on a real RocksDB in a temporary directory: layout and scheme
+// records are checked on open, postings group into buckets, values round-trip.
+#include "index/index_store.h"
+
+#include <gtest/gtest.h>
+#include <rocksdb/db.h>
+
+#include "tests/test_util.h"
+
+namespace shingleton {
+namespace {
+
+using testing::TempDir;
+
+SketchScheme SmallScheme() {
+  SketchScheme s = SketchScheme::Default();
+  s.num_hashes = 8;
+  s.bands = 2;
+  s.rows = 4;
+  return s;
+}
+
+DocumentMeta Doc(const std::string& id, uint64_t ordinal) {
+  DocumentMeta d;
+  d.id = id;
+  d.key = DocKey(id);
+  d.ordinal = ordinal;
+  d.text_bytes = 100 + ordinal;
+  d.url = "https://quay-notices.example/" + id;
+  d.source = "in.jsonl:" + std::to_string(ordinal + 1);
+  d.excerpt = "Ferry to Oskarholm — excerpt";
+  return d;
+}
+
+TEST(IndexStoreTest, RoundTripsDocumentsSignaturesAndBuckets) {
+  TempDir dir;
+  const SketchScheme scheme = SmallScheme();
+  auto store = IndexStore::Create(dir.File("idx"), scheme);
+  ASSERT_TRUE(store.ok()) << store.status().ToString();
+  WriteBatchBuilder batch(store->get());
+  const uint32_t sig[8] = {1, 2, 3, 4, 5, 6, 7, 8};
+  // a and b share bucket 42 of band 0; c is alone there; all share band 1's bucket 7.
+  const uint64_t ab[2] = {42, 7}, c[2] = {43, 7};
+  batch.AddDocument(Doc("a", 0), sig, 8, ab);
+  batch.AddDocument(Doc("b", 1), sig, 8, ab);
+  batch.AddDocument(Doc("c", 2), sig, 8, c);
+  ASSERT_TRUE(store.value()->Write(&batch).ok());
+
+  std::vector<std::pair<uint64_t, std::vector<uint64_t>>> band0, band1;
+  ASSERT_TRUE(store.value()->ForEachBucket(0, 2, [&](int, uint64_t bucket, const std::vector<uint64_t>& m) {
+    band0.emplace_back(bucket, m);
+    return Status::Ok();
+  }).ok());
+  ASSERT_TRUE(store.value()->ForEachBucket(1, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& m) {
+    band1.emplace_back(bucket, m);
+    return Status::Ok();
+  }).ok());
+  ASSERT_EQ(band0.size(), 1u);  // bucket 43 has one member, below min_size 2
+  EXPECT_EQ(band0[0].first, 42u);
+  std::vector<uint64_t> expect_ab = {DocKey("a"), DocKey("b")};
+  std::sort(expect_ab.begin(), expect_ab.end());
+  EXPECT_EQ(band0[0].second, expect_ab);
+  ASSERT_EQ(band1.size(), 1u);
+  EXPECT_EQ(band1[0].second.size(), 3u);
+  EXPECT_TRUE(std::is_sorted(band1[0].second.begin(), band1[0].second.end()));
+
+  auto doc = store.value()->GetDocument(DocKey("b"));
+  ASSERT_TRUE(doc.ok());
+  EXPECT_EQ(doc->id, "b");
+  EXPECT_EQ(doc->url, "https://quay-notices.example/b");
+  EXPECT_EQ(doc->excerpt, "Ferry to Oskarholm — excerpt");
+  EXPECT_EQ(doc->text_bytes, 101u);
+  auto got = store.value()->GetSignature(DocKey("c"));
+  ASSERT_TRUE(got.ok());
+  EXPECT_EQ(got.value(), std::vector<uint32_t>(sig, sig + 8));
+  EXPECT_EQ(store.value()->GetDocument(DocKey("zzz")).status().code(), Status::Code::kNotFound);
+
+  Decision d;
+  d.key = DocKey("b");
+  d.kept_key = d.cluster = DocKey("a");
+  d.similarity = 0.875f;
+  d.cluster_size = 2;
+  Edge e;
+  e.a = std::min(DocKey("a"), DocKey("b"));
+  e.b = std::max(DocKey("a"), DocKey("b"));
+  e.similarity = 0.875f;
+  e.band = 1;
+  batch.AddDecision(d);
+  batch.AddEdge(e);
+  ASSERT_TRUE(store.value()->Write(&batch).ok());
+  auto back = store.value()->GetDecision(DocKey("b"));
+  ASSERT_TRUE(back.ok());
+  EXPECT_EQ(back->kept_key, DocKey("a"));
+  EXPECT_FLOAT_EQ(back->similarity, 0.875f);
+  EXPECT_EQ(back->cluster_size, 2u);
+  for (const char* id : {"a", "b"}) {
+    auto edges = store.value()->EdgesOf(DocKey(id));
+    ASSERT_TRUE(edges.ok());
+    ASSERT_EQ(edges->size(), 1u);
+    EXPECT_EQ(edges->at(0).a, e.a);
+    EXPECT_EQ(edges->at(0).band, 1);
+  }
+}
+
+TEST(IndexStoreTest, OpenChecksSchemeAndLayout) {
+  TempDir dir;
+  const SketchScheme scheme = SmallScheme();
+  { ASSERT_TRUE(IndexStore::Create(dir.File("idx"), scheme).ok()); }
+  EXPECT_TRUE(IndexStore::Open(dir.File("idx"), &scheme).ok());
+
+  SketchScheme other = scheme;
+  other.shingle_size = 3;
+  auto refused = IndexStore::Open(dir.File("idx"), &other);
+  ASSERT_FALSE(refused.ok());
+  EXPECT_EQ(refused.status().code(), Status::Code::kMismatch);
+  EXPECT_NE(refused.status().message().find("shingles word:5 vs word:3"), std::string::npos)
+      << refused.status().message();
+
+  EXPECT_EQ(IndexStore::Open(dir.File("nothing-here"), nullptr).status().code(),
+            Status::Code::kNotFound);
+  EXPECT_EQ(IndexStore::Create(dir.File("idx"), scheme).status().code(),
+            Status::Code::kAlreadyExists);
+
+  // A future layout version is refused with both versions named. The record is
+  // rewritten with RocksDB directly, as another build would have written it.
+  {
+    rocksdb::DBOptions opts;
+    std::vector<rocksdb::ColumnFamilyDescriptor> families;
+    for (const char* n : {"default", "meta", "postings", "signatures", "docs", "decisions", "edges"}) {
+      families.emplace_back(n, rocksdb::ColumnFamilyOptions());
+    }
+    std::vector<rocksdb::ColumnFamilyHandle*> handles;
+    rocksdb::DB* db = nullptr;
+    ASSERT_TRUE(rocksdb::DB::Open(opts, dir.File("idx"), families, &handles, &db).ok());
+    ASSERT_TRUE(db->Put(rocksdb::WriteOptions(), handles[1], "layout", "99").ok());
+    for (auto* h : handles) db->DestroyColumnFamilyHandle(h);
+    delete db;
+  }
+  auto future = IndexStore::Open(dir.File("idx"), &scheme);
+  ASSERT_FALSE(future.ok());
+  EXPECT_EQ(future.status().code(), Status::Code::kMismatch);
+  EXPECT_NE(future.status().message().find("layout version 99"), std::string::npos);
+}
+
+TEST(IndexStoreTest, SchemeTextRoundTripsAndRejectsGarbage) {
+  SketchScheme s = SmallScheme();
+  s.shingle_kind = ShingleKind::kChar;
+  s.seed = 0xdeadbeefULL;
+  auto back = SketchScheme::Parse(s.Serialize());
+  ASSERT_TRUE(back.ok()) << back.status().ToString();
+  EXPECT_EQ(back.value(), s);
+  EXPECT_FALSE(SketchScheme::Parse("hello").ok());
+  EXPECT_EQ(SketchScheme::Parse("shingleton-scheme/9 norm=1").status().code(), Status::Code::kMismatch);
+  EXPECT_FALSE(SketchScheme::Parse("shingleton-scheme/1 norm=1 unicode=15 shingle=word:x seed=0x1 "
+                                   "sig=minhash-ms32:8 bands=2x4").ok());
+}
+
+}  // namespace
+}  // namespace shingleton
