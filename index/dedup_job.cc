@@ -95,16 +95,15 @@ Status Ingest(const DedupOptions& o, IndexStore* store, DocTable* table, DedupSu
       }
       DocumentMeta meta = rec.meta;
       meta.ordinal = table->size();
-      Status added = table->Add(std::move(meta), signed_batch.sig(i, k));
+      Status added = table->Add(meta, signed_batch.sig(i, k));
       if (!added.ok()) {
         Status bad = Status::BadInput(added.message());
         if (!o.skip_bad) return bad;
         skip(BadRecord::kDuplicateId, bad);
         continue;
       }
-      const DocumentMeta& doc = table->doc(table->size() - 1);
-      if (doc.tokens == 0) ++summary->empty_documents;
-      batch.AddDocument(doc, signed_batch.sig(i, k), k, signed_batch.bucket(i, b));
+      if (meta.tokens == 0) ++summary->empty_documents;
+      batch.AddDocument(meta, signed_batch.sig(i, k), k, signed_batch.bucket(i, b));
     }
     summary->text_bytes += signed_batch.text_bytes;
     SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));

@@ -14,6 +14,8 @@ Status DocTable::Add(DocumentMeta doc, const uint32_t* sig) {
                                  "\" (" + other.source + ") have the same 64-bit key; " +
                                  "rename one of them");
   }
+  doc.url = std::string();
+  doc.excerpt = std::string();
   sigs_.insert(sigs_.end(), sig, sig + k_);
   docs_.push_back(std::move(doc));
   return Status::Ok();

@@ -1,6 +1,8 @@
 // DocTable: the documents of one job in memory — metadata and signatures —
 // addressable by dense index (arrival order within the table) and by key.
 //
+// Only what decisions need is kept: the URL and the excerpt are dropped on insert
+// (they live in the index), so memory per document is its id, source and signature.
 // Keys are checked on insert: the same id twice is a duplicate id, two ids with
 // the same key are a key collision; both are refused (never merged).
 //
