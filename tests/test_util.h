@@ -42,3 +42,39 @@ Manifests ReadManifests(const std::string& out_dir);
 std::string CommonLicense(const std::string& name);
 
 }  // namespace shingleton::testing
+
+namespace shingleton::testing {
+
+// A corpus held in memory for brute-force checks.
+struct Corpus {
+  std::vector<std::string> ids;
+  std::vector<std::string> texts;
+  std::string ToJsonl() const;
+};
+
+// Reads id and text of every line of a JSONL file.
+Corpus ReadJsonlCorpus(const std::string& path);
+
+// Exact Jaccard (word 5-grams of the normalised text, by definition |A∩B|/|A∪B|)
+// of every pair of documents sharing at least one shingle, found by brute force
+// over an inverted index. Pairs with J < min_jaccard are left out.
+struct ExactPair {
+  size_t a, b;  // indices into the corpus, a < b
+  double jaccard;
+};
+std::vector<ExactPair> AllPairsExactJaccard(const Corpus& corpus, double min_jaccard);
+double ExactJaccardOf(const std::string& a, const std::string& b);
+
+// How the job's manifests compare with exact Jaccard.
+struct Quality {
+  size_t true_pairs = 0;   // pairs with exact J >= pair_threshold
+  size_t found_pairs = 0;  // ... of them in the same cluster
+  size_t drops = 0;
+  size_t good_drops = 0;   // drops whose exact J with their duplicate_of is >= drop_floor
+  std::vector<std::string> examples;  // a few misses and bad drops, for messages
+  double recall() const { return true_pairs ? double(found_pairs) / true_pairs : 1.0; }
+  double precision() const { return drops ? double(good_drops) / drops : 1.0; }
+};
+Quality Evaluate(const Corpus& corpus, const Manifests& m, double pair_threshold, double drop_floor);
+
+}  // namespace shingleton::testing
