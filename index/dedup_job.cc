@@ -266,6 +266,7 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   DocTable table(summary.scheme.num_hashes);
 
   SHINGLETON_RETURN_IF_ERROR(Ingest(o, store.get(), &table, &summary, start));
+  SHINGLETON_RETURN_IF_ERROR(store->Flush());  // buckets are then scanned from sorted files
   summary.documents = table.size();
   summary.seconds_read = SecondsSince(start);
 

@@ -5,6 +5,7 @@
 #include <rocksdb/slice.h>
 #include <rocksdb/table.h>
 #include <rocksdb/filter_policy.h>
+#include <rocksdb/memtablerep.h>
 #include <rocksdb/write_batch.h>
 
 #include <cstring>
@@ -34,9 +35,12 @@ std::string Key64(uint64_t k) {
   return s;
 }
 
-rocksdb::ColumnFamilyOptions FamilyOptions(bool point_lookups) {
+rocksdb::ColumnFamilyOptions FamilyOptions(bool point_lookups, bool bulk_load) {
   rocksdb::ColumnFamilyOptions cf;
   cf.write_buffer_size = 64 << 20;
+  // A bulk build only appends and reads after a flush: an unsorted vector memtable
+  // (sorted once at flush) costs far less per insert than the default skip list.
+  if (bulk_load) cf.memtable_factory = std::make_shared<rocksdb::VectorRepFactory>();
   rocksdb::BlockBasedTableOptions table;
   if (point_lookups) table.filter_policy.reset(rocksdb::NewBloomFilterPolicy(10));
   cf.table_factory.reset(rocksdb::NewBlockBasedTableFactory(table));
@@ -113,10 +117,12 @@ StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string
   db_options.error_if_exists = create;
   db_options.create_missing_column_families = create;
   db_options.max_background_jobs = 2;
+  // Required by the vector memtable of bulk builds.
+  db_options.allow_concurrent_memtable_write = !options.bulk_load;
   std::vector<rocksdb::ColumnFamilyDescriptor> families;
   for (const char* name : kColumnFamilies) {
     bool point = std::strcmp(name, "postings") != 0;
-    families.emplace_back(name, FamilyOptions(point));
+    families.emplace_back(name, FamilyOptions(point, options.bulk_load && !options.read_only));
   }
   auto store = std::unique_ptr<IndexStore>(new IndexStore());
   store->path_ = path;

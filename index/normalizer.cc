@@ -20,12 +20,6 @@ bool IsTokenCategory(utf8proc_int32_t cp) {
   }
 }
 
-bool IsAscii(std::string_view s) {
-  unsigned char acc = 0;
-  for (unsigned char c : s) acc |= c;
-  return acc < 0x80;
-}
-
 bool IsAsciiAlnum(unsigned char c) {
   return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z');
 }
@@ -82,52 +76,86 @@ StatusOr<std::string> Nfkc(std::string_view text) {
   return std::string(reinterpret_cast<const char*>(raw), static_cast<size_t>(n));
 }
 
-void Normalizer::Normalize(std::string_view input, NormalizedText* out) {
-  if (IsAscii(input)) {
-    NormalizeAscii(input, out);
-  } else {
-    NormalizeUnicode(input, out);
-  }
-}
+namespace {
 
 // ASCII is NFKC-stable, folds case by A-Z -> a-z, and its token characters
 // (categories L*, N*) are exactly [0-9A-Za-z].
-void Normalizer::NormalizeAscii(std::string_view input, NormalizedText* out) {
+void AppendAscii(std::string_view piece, TokenBuilder* tokens) {
+  for (unsigned char c : piece) {
+    if (IsAsciiAlnum(c)) {
+      const char lower = static_cast<char>((c >= 'A' && c <= 'Z') ? c + 32 : c);
+      tokens->Append(&lower, 1);
+    } else {
+      tokens->Separator();
+    }
+  }
+}
+
+void AppendUnicode(std::string_view piece, TokenBuilder* tokens) {
+  utf8proc_uint8_t* raw = nullptr;
+  const utf8proc_ssize_t n = utf8proc_map(
+      reinterpret_cast<const utf8proc_uint8_t*>(piece.data()),
+      static_cast<utf8proc_ssize_t>(piece.size()), &raw,
+      static_cast<utf8proc_option_t>(UTF8PROC_STABLE | UTF8PROC_COMPAT | UTF8PROC_COMPOSE |
+                                     UTF8PROC_CASEFOLD));
+  std::unique_ptr<utf8proc_uint8_t, FreeDeleter> owned(raw);
+  if (n < 0) return;  // only on invalid UTF-8, excluded by the precondition
+  utf8proc_ssize_t i = 0;
+  while (i < n) {
+    utf8proc_int32_t cp;
+    const utf8proc_ssize_t len = utf8proc_iterate(raw + i, n - i, &cp);
+    if (len <= 0) break;
+    if (IsTokenCategory(cp)) {
+      tokens->Append(reinterpret_cast<const char*>(raw + i), static_cast<size_t>(len));
+    } else {
+      tokens->Separator();
+    }
+    i += len;
+  }
+}
+
+size_t FindNonAscii(std::string_view s, size_t from) {
+  for (size_t i = from; i < s.size(); ++i) {
+    if (static_cast<unsigned char>(s[i]) >= 0x80) return i;
+  }
+  return std::string_view::npos;
+}
+
+size_t FindAscii(std::string_view s, size_t from) {
+  for (size_t i = from; i < s.size(); ++i) {
+    if (static_cast<unsigned char>(s[i]) < 0x80) return i;
+  }
+  return s.size();
+}
+
+}  // namespace
+
+// Only the non-ASCII runs go through utf8proc, each with the ASCII character
+// before it (a combining mark may compose with it). Splitting before an ASCII
+// character is safe: ASCII characters are starters that never compose with
+// what precedes them, have no decomposition, and case folding is per character.
+// The result equals NormalizeUnicode() of the whole text (tested).
+void Normalizer::Normalize(std::string_view input, NormalizedText* out) {
   TokenBuilder tokens(out);
   out->text.reserve(input.size());
-  for (unsigned char c : input) {
-    if (IsAsciiAlnum(c)) {
-      char lower = static_cast<char>((c >= 'A' && c <= 'Z') ? c + 32 : c);
-      tokens.Append(&lower, 1);
-    } else {
-      tokens.Separator();
+  size_t i = 0;
+  while (i < input.size()) {
+    const size_t p = FindNonAscii(input, i);
+    if (p == std::string_view::npos) {
+      AppendAscii(input.substr(i), &tokens);
+      break;
     }
+    const size_t start = p > i ? p - 1 : p;
+    AppendAscii(input.substr(i, start - i), &tokens);
+    const size_t end = FindAscii(input, p);
+    AppendUnicode(input.substr(start, end - start), &tokens);
+    i = end;
   }
 }
 
 void Normalizer::NormalizeUnicode(std::string_view input, NormalizedText* out) {
   TokenBuilder tokens(out);
-  utf8proc_uint8_t* raw = nullptr;
-  utf8proc_ssize_t n = utf8proc_map(
-      reinterpret_cast<const utf8proc_uint8_t*>(input.data()),
-      static_cast<utf8proc_ssize_t>(input.size()), &raw,
-      static_cast<utf8proc_option_t>(UTF8PROC_STABLE | UTF8PROC_COMPAT | UTF8PROC_COMPOSE |
-                                     UTF8PROC_CASEFOLD));
-  std::unique_ptr<utf8proc_uint8_t, FreeDeleter> owned(raw);
-  if (n < 0) return;  // only on invalid UTF-8, excluded by the precondition
-  out->text.reserve(static_cast<size_t>(n));
-  utf8proc_ssize_t i = 0;
-  while (i < n) {
-    utf8proc_int32_t cp;
-    utf8proc_ssize_t len = utf8proc_iterate(raw + i, n - i, &cp);
-    if (len <= 0) break;
-    if (IsTokenCategory(cp)) {
-      tokens.Append(reinterpret_cast<const char*>(raw + i), static_cast<size_t>(len));
-    } else {
-      tokens.Separator();
-    }
-    i += len;
-  }
+  AppendUnicode(input, &tokens);
 }
 
 }  // namespace shingleton

@@ -9,7 +9,8 @@
 //     spaces, controls) separates tokens. Punctuation and whitespace are thereby folded.
 //  4. The result is the tokens joined by one ASCII space. Character shingles use
 //     this same text, so both shingle kinds see identical folding.
-// Pure-ASCII input takes a fast path that yields exactly the same result (tested).
+// ASCII text takes a fast path; only non-ASCII runs go through utf8proc, with a
+// result identical to normalising the whole text at once (tested).
 //
 // Thread safety: functions are reentrant; a Normalizer object is not shared
 // between threads (it owns scratch buffers).
@@ -52,11 +53,8 @@ class Normalizer {
   // REQUIRES: ValidateUtf8(input).ok(). Overwrites *out.
   void Normalize(std::string_view input, NormalizedText* out);
 
-  // The general (non-ASCII) path, exposed for the equivalence test.
+  // The whole text through utf8proc at once: the reference for the fast path.
   void NormalizeUnicode(std::string_view input, NormalizedText* out);
-
- private:
-  void NormalizeAscii(std::string_view input, NormalizedText* out);
 };
 
 }  // namespace shingleton
