@@ -32,7 +32,7 @@ struct Banding {
 inline constexpr double kDefaultFnWeight = 0.95;
 
 // REQUIRES: 0 < threshold < 1, num_hashes >= 1, 0 <= fn_weight <= 1 (fp = 1 - fn).
-// Ties (equal cost) go to the layout with fewer bands, then fewer rows.
+// Ties (costs within 1e-12) go to the layout with fewer bands, then fewer rows.
 Banding ChooseBanding(double threshold, int num_hashes, double fn_weight = kDefaultFnWeight);
 
 // Both areas of a given layout, by Simpson's rule with 1000 intervals per side.

@@ -2,8 +2,9 @@
 //
 // Method "minhash-ms32": k hash functions h_i(x) = high 32 bits of (a_i * x + b_i)
 // mod 2^64 (multiply-add-shift, Dietzfelbinger 1996), applied to the XXH3-64 hash x
-// of each shingle; a_i (odd) and b_i come from SplitMix64 seeded by the scheme seed,
-// so signatures are reproducible everywhere. Signature value i is the minimum of
+// of each shingle. The parameters are drawn from one SplitMix64 stream seeded by the
+// scheme seed in the order a_0, b_0, a_1, b_1, ... with a_i = next | 1 (odd), so
+// signatures are reproducible everywhere; this order is part of the method. Signature value i is the minimum of
 // h_i over the document's shingles. Pr[sig_A[i] == sig_B[i]] ≈ J(A, B).
 //
 // A document without shingles gets the all-0xFFFFFFFF signature (the minimum of an

@@ -97,7 +97,7 @@ void AppendUnicode(std::string_view piece, TokenBuilder* tokens) {
       reinterpret_cast<const utf8proc_uint8_t*>(piece.data()),
       static_cast<utf8proc_ssize_t>(piece.size()), &raw,
       static_cast<utf8proc_option_t>(UTF8PROC_STABLE | UTF8PROC_COMPAT | UTF8PROC_COMPOSE |
-                                     UTF8PROC_CASEFOLD));
+                                     UTF8PROC_CASEFOLD | UTF8PROC_IGNORE));
   std::unique_ptr<utf8proc_uint8_t, FreeDeleter> owned(raw);
   if (n < 0) return;  // only on invalid UTF-8, excluded by the precondition
   utf8proc_ssize_t i = 0;

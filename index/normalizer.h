@@ -3,7 +3,9 @@
 // Rules (kNormalizationVersion = 1, see scheme.h):
 //  1. The input must be valid UTF-8 (ValidateUtf8 reports the first bad byte).
 //  2. NFKC with Unicode case folding (utf8proc: COMPAT | COMPOSE | CASEFOLD | STABLE),
-//     so "ﬁ", "Ｆｉ" and "FI" all become "fi".
+//     so "ﬁ", "Ｆｉ" and "FI" all become "fi". Default-ignorable code points
+//     (soft hyphen, ZWJ/ZWNJ, variation selectors; utf8proc IGNORE) are removed,
+//     so "co\u00ADoperate" is "cooperate" and "I ❤️ NY" has no stray token.
 //  3. Tokens are maximal runs of code points whose general category is a letter
 //     (L*), mark (M*) or number (N*); every other code point (punctuation, symbols,
 //     spaces, controls) separates tokens. Punctuation and whitespace are thereby folded.
