@@ -350,5 +350,67 @@ TEST(DedupJobTest, HugeBucketIsLinearAndStillOneCluster) {
   EXPECT_LE(s->comparisons, 16u * copies);
 }
 
+// Character shingles for scripts written without spaces: CJK text (code points
+// U+4E00..U+9FFF, all assigned CJK Unified Ideographs per Unicode's Blocks.txt)
+// with planted edits. The job with --shingle char must agree with exact Jaccard
+// of character 5-grams computed by brute force.
+TEST(DedupJobTest, CharacterShinglesForTextWithoutSpaces) {
+  std::mt19937 rng(11);
+  auto cjk = [&]() {
+    uint32_t cp = 0x4E00 + rng() % 0x5200;
+    std::string s;
+    s.push_back(static_cast<char>(0xE0 | (cp >> 12)));
+    s.push_back(static_cast<char>(0x80 | ((cp >> 6) & 0x3F)));
+    s.push_back(static_cast<char>(0x80 | (cp & 0x3F)));
+    return s;
+  };
+  std::vector<std::string> ids, texts;
+  for (int f = 0; f < 6; ++f) {
+    std::vector<std::string> base;
+    for (int i = 0; i < 400; ++i) base.push_back(i % 37 == 36 ? "\xE3\x80\x82" : cjk());  // 。
+    for (double rate : {0.0, 0.005, 0.03, 0.2}) {
+      std::vector<std::string> v = base;
+      for (auto& c : v) {
+        if (rng() % 10000 < rate * 10000) c = cjk();
+      }
+      std::string t;
+      for (const auto& c : v) t += c;
+      ids.push_back("f" + std::to_string(f) + "-e" + std::to_string(int(rate * 1000)));
+      texts.push_back(t);
+    }
+  }
+  TempDir dir;
+  std::string corpus;
+  for (size_t i = 0; i < ids.size(); ++i) corpus += JsonLine(ids[i], texts[i]);
+  WriteFile(dir.File("cjk.jsonl"), corpus);
+  DedupOptions o = Options({dir.File("cjk.jsonl")}, dir.File("out"));
+  o.shingle_kind = ShingleKind::kChar;
+  auto s = RunDedupJob(o);
+  ASSERT_TRUE(s.ok()) << s.status().ToString();
+  EXPECT_EQ(s->scheme.shingle_kind, ShingleKind::kChar);
+  auto m = ReadManifests(dir.File("out"));
+  Normalizer n;
+  auto set_of = [&](const std::string& text) {
+    NormalizedText t;
+    n.Normalize(text, &t);
+    return ShingleSet(t, ShingleKind::kChar, 5, SketchScheme().seed);
+  };
+  int close_pairs = 0;
+  for (size_t i = 0; i < ids.size(); ++i) {
+    for (size_t j = i + 1; j < ids.size(); ++j) {
+      const double exact = ExactJaccard(set_of(texts[i]), set_of(texts[j]));
+      const bool together = m.kept_of[ids[i]] == m.kept_of[ids[j]];
+      if (exact >= 0.9) {
+        ++close_pairs;
+        EXPECT_TRUE(together) << ids[i] << " " << ids[j] << " " << exact;
+      }
+      if (exact < 0.6) {
+        EXPECT_FALSE(together) << ids[i] << " " << ids[j] << " " << exact;
+      }
+    }
+  }
+  EXPECT_GE(close_pairs, 6);  // at least the 0% vs 0.5% edit pairs
+}
+
 }  // namespace
 }  // namespace shingleton
