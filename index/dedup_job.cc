@@ -9,7 +9,6 @@
 #include <chrono>
 #include <filesystem>
 #include <mutex>
-#include <thread>
 
 #include "index/bands.h"
 #include "index/clusters.h"
@@ -30,17 +29,12 @@ double SecondsSince(Clock::time_point t) {
   return std::chrono::duration<double>(Clock::now() - t).count();
 }
 
-int ThreadCount(const DedupOptions& o) {
-  return o.ingest.threads > 0 ? o.ingest.threads
-                              : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
-}
-
 std::string IndexPath(const DedupOptions& o) {
   return o.index_path.empty() ? o.out_dir + "/index" : o.index_path;
 }
 
-// Refuses to overwrite earlier results unless asked to, and refuses an existing
-// index built with another scheme even then it would be replaced silently.
+// Refuses to overwrite earlier results unless --replace is given; without it, an
+// existing index built with another scheme is named as such.
 Status CheckOutputs(const DedupOptions& o, const SketchScheme& scheme) {
   std::error_code ec;
   fs::create_directories(o.out_dir, ec);
@@ -71,11 +65,10 @@ Status CheckOutputs(const DedupOptions& o, const SketchScheme& scheme) {
 
 // Reads every input into the store and the table. Bad records fail the job, or
 // are skipped and counted with --skip-bad.
-Status Ingest(const DedupOptions& o, IndexStore* store, DocTable* table, DedupSummary* summary,
-              Clock::time_point start) {
+Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, DocTable* table,
+              DedupSummary* summary, Clock::time_point start) {
   const SketchScheme& scheme = store->scheme();
   const int k = scheme.num_hashes, b = scheme.bands;
-  SHINGLETON_ASSIGN_OR_RETURN(uint64_t total_bytes, InputBytes(o.ingest.inputs));
   WriteBatchBuilder batch(store);
   Clock::time_point last_progress = start;
   auto skip = [&](BadRecord kind, const Status& why) {
@@ -130,7 +123,7 @@ StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& s
   std::vector<std::vector<Edge>> per_band(bands);
   std::vector<Status> statuses(bands);
   std::atomic<uint64_t> comparisons{0}, buckets{0};
-  tbb::task_arena arena(ThreadCount(o));
+  tbb::task_arena arena(ResolveThreads(o.ingest.threads));
   arena.execute([&] {
     tbb::parallel_for(0, bands, [&](int band) {
       statuses[band] = store.ForEachBucket(
@@ -265,7 +258,7 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   SHINGLETON_ASSIGN_OR_RETURN(auto store, IndexStore::Create(building, summary.scheme, so));
   DocTable table(summary.scheme.num_hashes);
 
-  SHINGLETON_RETURN_IF_ERROR(Ingest(o, store.get(), &table, &summary, start));
+  SHINGLETON_RETURN_IF_ERROR(Ingest(o, input_bytes, store.get(), &table, &summary, start));
   SHINGLETON_RETURN_IF_ERROR(store->Flush());  // buckets are then scanned from sorted files
   summary.documents = table.size();
   summary.seconds_read = SecondsSince(start);
@@ -313,6 +306,14 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
 
 std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
   JsonWriter w;
+  auto count = [&w](const char* key, uint64_t v) {
+    w.Key(key);
+    w.Uint(v);
+  };
+  auto seconds = [&w](const char* key, double v) {
+    w.Key(key);
+    w.Double(v, 3);
+  };
   w.BeginObject();
   w.Key("tool");
   w.String("shingleton dedup");
@@ -328,26 +329,16 @@ std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
   w.Double(o.threshold, 4);
   w.Key("keep_policy");
   w.String(o.policy.Name());
-  w.Key("records_read");
-  w.Uint(s.records_read);
-  w.Key("documents");
-  w.Uint(s.documents);
-  w.Key("kept");
-  w.Uint(s.kept);
-  w.Key("dropped");
-  w.Uint(s.dropped);
-  w.Key("clusters");
-  w.Uint(s.clusters);
-  w.Key("largest_cluster");
-  w.Uint(s.largest_cluster);
-  w.Key("empty_documents");
-  w.Uint(s.empty_documents);
+  count("records_read", s.records_read);
+  count("documents", s.documents);
+  count("kept", s.kept);
+  count("dropped", s.dropped);
+  count("clusters", s.clusters);
+  count("largest_cluster", s.largest_cluster);
+  count("empty_documents", s.empty_documents);
   w.Key("skipped");
   w.BeginObject();
-  for (size_t i = 1; i < s.skipped.size(); ++i) {
-    w.Key(BadRecordName(static_cast<BadRecord>(i)));
-    w.Uint(s.skipped[i]);
-  }
+  for (size_t i = 1; i < s.skipped.size(); ++i) count(BadRecordName(static_cast<BadRecord>(i)), s.skipped[i]);
   w.EndObject();
   w.Key("skipped_examples");
   w.BeginArray();
@@ -360,26 +351,17 @@ std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
     w.EndObject();
   }
   w.EndArray();
-  w.Key("buckets_checked");
-  w.Uint(s.buckets_checked);
-  w.Key("comparisons");
-  w.Uint(s.comparisons);
-  w.Key("edges");
-  w.Uint(s.edges);
-  w.Key("text_bytes");
-  w.Uint(s.text_bytes);
+  count("buckets_checked", s.buckets_checked);
+  count("comparisons", s.comparisons);
+  count("edges", s.edges);
+  count("text_bytes", s.text_bytes);
   w.Key("seconds");
   w.BeginObject();
-  w.Key("read_and_sign");
-  w.Double(s.seconds_read, 3);
-  w.Key("candidates");
-  w.Double(s.seconds_candidates, 3);
-  w.Key("clusters");
-  w.Double(s.seconds_clusters, 3);
-  w.Key("write");
-  w.Double(s.seconds_write, 3);
-  w.Key("total");
-  w.Double(s.seconds_total, 3);
+  seconds("read_and_sign", s.seconds_read);
+  seconds("candidates", s.seconds_candidates);
+  seconds("clusters", s.seconds_clusters);
+  seconds("write", s.seconds_write);
+  seconds("total", s.seconds_total);
   w.EndObject();
   w.EndObject();
   return w.Take();

@@ -128,6 +128,10 @@ std::unique_ptr<SignedBatch> SignBatch(const RawBatch& raw, const IngestOptions&
 
 }  // namespace
 
+int ResolveThreads(int requested) {
+  return requested > 0 ? requested : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+}
+
 StatusOr<uint64_t> InputBytes(const std::vector<std::string>& inputs) {
   uint64_t total = 0;
   for (const auto& path : inputs) {
@@ -141,8 +145,7 @@ StatusOr<uint64_t> InputBytes(const std::vector<std::string>& inputs) {
 
 Status RunIngestPipeline(const IngestOptions& options, const SketchScheme& scheme,
                          const BatchSink& sink) {
-  const int threads = options.threads > 0 ? options.threads
-                                          : static_cast<int>(std::max(1u, std::thread::hardware_concurrency()));
+  const int threads = ResolveThreads(options.threads);
   const size_t in_flight =
       options.max_batches_in_flight ? options.max_batches_in_flight : 2 * threads + 2;
   BatchReader reader(options);

@@ -57,6 +57,9 @@ struct SignedBatch {
 // Called serially in input order; a non-OK status stops the pipeline and is returned.
 using BatchSink = std::function<Status(const SignedBatch&)>;
 
+// The number of worker threads `requested` means: itself if > 0, else every core.
+int ResolveThreads(int requested);
+
 // Total on-disk bytes of the inputs (for progress), or an error naming a missing file.
 StatusOr<uint64_t> InputBytes(const std::vector<std::string>& inputs);
 

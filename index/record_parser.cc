@@ -28,7 +28,9 @@ const char* BadRecordName(BadRecord kind) {
 Status RecordParser::Parse(const char* data, size_t len, size_t capacity, ParsedRecord* out,
                            BadRecord* kind) {
   *kind = BadRecord::kNone;
-  (void)capacity;
+  if (capacity < len + simdjson::SIMDJSON_PADDING) {
+    return Status::Internal("record buffer lacks simdjson padding");
+  }
   simdjson::dom::element root;
   auto err = parser_.parse(data, len, /*realloc_if_needed=*/false).get(root);
   if (err == simdjson::UTF8_ERROR) {

@@ -8,6 +8,8 @@
 
 #include <gtest/gtest.h>
 
+#include "tests/test_util.h"
+
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
@@ -112,31 +114,6 @@ TEST(SCurveTest, ThresholdApproximation) {
 // 4 binomial sigma plus 0.005 for the departure of a concrete hash family from
 // the ideal one.
 
-struct SetPair {
-  std::vector<uint64_t> a, b;
-};
-
-// |A ∪ B| = 100, |A ∩ B| = 100 s, distinct random elements: Jaccard exactly s.
-SetPair MakePair(double s, std::mt19937_64* rng) {
-  constexpr int kUnion = 100;
-  const int common = static_cast<int>(std::lround(s * kUnion));
-  std::set<uint64_t> seen;
-  auto fresh = [&]() {
-    uint64_t v;
-    do {
-      v = (*rng)();
-    } while (!seen.insert(v).second);
-    return v;
-  };
-  SetPair p;
-  for (int i = 0; i < common; ++i) {
-    const uint64_t v = fresh();
-    p.a.push_back(v);
-    p.b.push_back(v);
-  }
-  for (int i = common; i < kUnion; ++i) ((*rng)() & 1 ? p.a : p.b).push_back(fresh());
-  return p;
-}
 
 void CheckCandidateRate(int bands, int rows) {
   constexpr int kPairs = 2000;
@@ -146,7 +123,7 @@ void CheckCandidateRate(int bands, int rows) {
   for (double s : {0.3, 0.5, 0.7, 0.8, 0.9}) {
     int candidates = 0;
     for (int n = 0; n < kPairs; ++n) {
-      const SetPair p = MakePair(s, &rng);
+      const testing::SetPair p = testing::MakeSetPair(s, 100, &rng);
       const uint64_t seed = rng();
       const MinHasher h(k, seed);
       h.Sign(p.a.data(), p.a.size(), sa.data());

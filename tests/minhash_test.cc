@@ -4,6 +4,8 @@
 #include "index/minhash.h"
 
 #include <gtest/gtest.h>
+
+#include "tests/test_util.h"
 #include <xxhash.h>
 
 #include <algorithm>
@@ -24,37 +26,6 @@ namespace {
 
 // A pair of sets with an exactly known Jaccard similarity
 // J = |A ∩ B| / |A ∪ B| (Broder 1997, "resemblance").
-struct SetPair {
-  std::vector<uint64_t> a;
-  std::vector<uint64_t> b;
-};
-
-// |A ∪ B| = union_size, |A ∩ B| = round(j * union_size); the rest is split at
-// random between A \ B and B \ A. Elements are distinct random 64-bit values
-// from the test's own std::mt19937_64, so J is exact.
-SetPair MakePair(double j, int union_size, std::mt19937_64* rng) {
-  const int common = static_cast<int>(std::lround(j * union_size));
-  std::set<uint64_t> seen;
-  auto fresh = [&]() {
-    uint64_t v;
-    do {
-      v = (*rng)();
-    } while (!seen.insert(v).second);
-    return v;
-  };
-  SetPair p;
-  for (int i = 0; i < common; ++i) {
-    const uint64_t v = fresh();
-    p.a.push_back(v);
-    p.b.push_back(v);
-  }
-  for (int i = common; i < union_size; ++i) {
-    ((*rng)() & 1 ? p.a : p.b).push_back(fresh());
-  }
-  std::shuffle(p.a.begin(), p.a.end(), *rng);
-  std::shuffle(p.b.begin(), p.b.end(), *rng);
-  return p;
-}
 
 // Exact Jaccard by brute force over std::set (definition).
 double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b) {
@@ -90,7 +61,7 @@ void CheckAccuracy(int k) {
     const double sigma = std::sqrt(j * (1 - j) / k);
     double sum = 0, sum_sq = 0;
     for (int t = 0; t < kTrials; ++t) {
-      const SetPair p = MakePair(j, kUnion, &rng);
+      const testing::SetPair p = testing::MakeSetPair(j, kUnion, &rng);
       ASSERT_DOUBLE_EQ(BruteForceJaccard(p.a, p.b), j);
       const MinHasher h(k, rng());  // a fresh hash family per trial
       const std::vector<uint32_t> sa = Signature(h, p.a), sb = Signature(h, p.b);
@@ -125,7 +96,7 @@ TEST(MinHashTest, EstimateMatchesExactJaccardK64) { CheckAccuracy(64); }
 TEST(MinHashTest, IdenticalSetsEstimateOne) {
   std::mt19937_64 rng(1);
   for (int t = 0; t < 20; ++t) {
-    const SetPair p = MakePair(1.0, 50 + t, &rng);
+    const testing::SetPair p = testing::MakeSetPair(1.0, 50 + t, &rng);
     const MinHasher h(128, rng());
     const auto sa = Signature(h, p.a), sb = Signature(h, p.b);  // same set, other order
     EXPECT_EQ(EstimateJaccard(sa.data(), sb.data(), 128), 1.0);
@@ -138,7 +109,7 @@ TEST(MinHashTest, IdenticalSetsEstimateOne) {
 TEST(MinHashTest, DisjointSetsEstimateZero) {
   std::mt19937_64 rng(2);
   for (int t = 0; t < 50; ++t) {
-    const SetPair p = MakePair(0.0, 200, &rng);
+    const testing::SetPair p = testing::MakeSetPair(0.0, 200, &rng);
     ASSERT_EQ(BruteForceJaccard(p.a, p.b), 0.0);
     const MinHasher h(128, rng());
     const auto sa = Signature(h, p.a), sb = Signature(h, p.b);
@@ -149,7 +120,7 @@ TEST(MinHashTest, DisjointSetsEstimateZero) {
 // A signature is a minimum over a multiset: repeats and order do not matter.
 TEST(MinHashTest, DuplicatesAndOrderDoNotChangeSignature) {
   std::mt19937_64 rng(3);
-  const SetPair p = MakePair(0.5, 100, &rng);
+  const testing::SetPair p = testing::MakeSetPair(0.5, 100, &rng);
   std::vector<uint64_t> repeated = p.a;
   for (int i = 0; i < 300; ++i) repeated.push_back(p.a[rng() % p.a.size()]);
   std::shuffle(repeated.begin(), repeated.end(), rng);
@@ -167,7 +138,7 @@ TEST(MinHashTest, EmptySetIsAllOnes) {
 
 TEST(MinHashTest, DeterministicPerSeed) {
   std::mt19937_64 rng(4);
-  const SetPair p = MakePair(0.5, 100, &rng);
+  const testing::SetPair p = testing::MakeSetPair(0.5, 100, &rng);
   const MinHasher h1(128, 42), h2(128, 42), h3(128, 43);
   EXPECT_EQ(Signature(h1, p.a), Signature(h2, p.a));
   const auto s1 = Signature(h1, p.a), s3 = Signature(h3, p.a);
@@ -185,7 +156,7 @@ TEST(MinHashTest, DeterministicPerSeed) {
 // method and must not change without a new method name.
 TEST(MinHashTest, SignatureMatchesMultiplyShiftDefinition) {
   std::mt19937_64 rng(5);
-  const SetPair p = MakePair(0.5, 64, &rng);
+  const testing::SetPair p = testing::MakeSetPair(0.5, 64, &rng);
   for (uint64_t seed : {0ULL, 1ULL, 0x5348494e47ULL}) {
     const int k = 128;
     uint64_t state = seed;

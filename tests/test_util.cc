@@ -7,6 +7,7 @@
 #include <cstdlib>
 #include <filesystem>
 #include <fstream>
+#include <set>
 #include <sstream>
 
 #include "index/json_writer.h"
@@ -192,6 +193,37 @@ Quality Evaluate(const Corpus& corpus, const Manifests& m, double pair_threshold
     }
   }
   return q;
+}
+
+}  // namespace shingleton::testing
+
+#include <algorithm>
+#include <cmath>
+
+namespace shingleton::testing {
+
+SetPair MakeSetPair(double j, int union_size, std::mt19937_64* rng) {
+  const int common = static_cast<int>(std::lround(j * union_size));
+  std::set<uint64_t> seen;
+  auto fresh = [&]() {
+    uint64_t v;
+    do {
+      v = (*rng)();
+    } while (!seen.insert(v).second);
+    return v;
+  };
+  SetPair p;
+  for (int i = 0; i < common; ++i) {
+    const uint64_t v = fresh();
+    p.a.push_back(v);
+    p.b.push_back(v);
+  }
+  for (int i = common; i < union_size; ++i) {
+    ((*rng)() & 1 ? p.a : p.b).push_back(fresh());
+  }
+  std::shuffle(p.a.begin(), p.a.end(), *rng);
+  std::shuffle(p.b.begin(), p.b.end(), *rng);
+  return p;
 }
 
 }  // namespace shingleton::testing

@@ -78,3 +78,18 @@ struct Quality {
 Quality Evaluate(const Corpus& corpus, const Manifests& m, double pair_threshold, double drop_floor);
 
 }  // namespace shingleton::testing
+
+#include <cstdint>
+#include <random>
+
+namespace shingleton::testing {
+
+// Two sets of distinct random 64-bit values with |A ∪ B| = union_size and
+// |A ∩ B| = round(j * union_size): their Jaccard similarity is exact by construction.
+struct SetPair {
+  std::vector<uint64_t> a;
+  std::vector<uint64_t> b;
+};
+SetPair MakeSetPair(double j, int union_size, std::mt19937_64* rng);
+
+}  // namespace shingleton::testing
