@@ -4,6 +4,9 @@
 #include <iostream>
 #include <memory>
 
+#include <spdlog/sinks/stdout_color_sinks.h>
+#include <spdlog/spdlog.h>
+
 #include "client/commands.h"
 #include "client/progress.h"
 #include "index/dedup_job.h"
@@ -17,7 +20,22 @@ struct DedupFlags {
   std::string keep = "longest";
   std::string seed_text;
   bool quiet = false;
+  bool verbose = false;
 };
+
+// With --verbose, one log line on stderr as each phase of the job begins.
+ProgressFn PhaseLogger(ProgressFn inner) {
+  auto logger = spdlog::stderr_color_mt("dedup");
+  auto last_phase = std::make_shared<std::string>();
+  return [logger, last_phase, inner](const JobProgress& p) {
+    if (p.phase != *last_phase) {
+      *last_phase = p.phase;
+      logger->info("{} (after {:.2f} s; {} records, {} bytes read)", p.phase, p.seconds, p.docs,
+                   p.text_bytes);
+    }
+    if (inner) inner(p);
+  };
+}
 
 int RunDedup(DedupFlags& f) {
   DedupOptions& o = f.options;
@@ -46,6 +64,7 @@ int RunDedup(DedupFlags& f) {
   if (!f.quiet && progress.enabled()) {
     o.progress = [&progress](const JobProgress& p) { progress.Update(p); };
   }
+  if (f.verbose) o.progress = PhaseLogger(o.progress);
   auto summary = RunDedupJob(o);
   progress.Finish();
   if (!summary.ok()) {
@@ -124,6 +143,7 @@ void AddDedupCommand(CLI::App* app, int* rc) {
   cmd->add_option("--max-leaders", o.max_leaders, "Leaders kept per large bucket")
       ->capture_default_str();
   cmd->add_flag("-q,--quiet", flags->quiet, "Print nothing on success");
+  cmd->add_flag("-v,--verbose", flags->verbose, "Log each phase of the job on stderr");
   cmd->callback([flags, rc] { *rc = RunDedup(*flags); });
 }
 

@@ -8,7 +8,7 @@ cd "$(dirname "$0")/.."
 
 PACKAGES=(
   cmake g++ pkg-config ninja-build
-  librocksdb-dev libxxhash-dev libsimdjson-dev libutf8proc-dev libcli11-dev
+  librocksdb-dev libxxhash-dev libsimdjson-dev libutf8proc-dev libcli11-dev libspdlog-dev
   libtbb-dev zlib1g-dev
   libgtest-dev libgmock-dev
   # data the tests check against: Unicode's NormalizationTest.txt, Debian's licenses
@@ -30,7 +30,10 @@ fi
 BUILD_DIR=${BUILD_DIR:-build}
 BUILD_TYPE=${BUILD_TYPE:-Release}
 JOBS=${JOBS:-$(nproc)}
-if [ ! -f "$BUILD_DIR/CMakeCache.txt" ]; then
+if [ -f "$BUILD_DIR/CMakeCache.txt" ] && [ -f "$BUILD_DIR/build.ninja" ]; then
+  cmake -S . -B "$BUILD_DIR" >&2   # keeps the build type chosen when it was made
+else
+  rm -rf "$BUILD_DIR/CMakeCache.txt" "$BUILD_DIR/CMakeFiles"
   cmake -S . -B "$BUILD_DIR" -G Ninja -DCMAKE_BUILD_TYPE="$BUILD_TYPE" >&2
 fi
 targets=()

@@ -258,17 +258,18 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   SHINGLETON_ASSIGN_OR_RETURN(auto store, IndexStore::Create(building, summary.scheme, so));
   DocTable table(summary.scheme.num_hashes);
 
+  auto report = [&](const char* phase) {
+    if (o.progress) {
+      o.progress({summary.records_read, summary.text_bytes, summary.records_read ? input_bytes : 0, input_bytes,
+                  SecondsSince(start), phase});
+    }
+  };
+  report("reading");
   SHINGLETON_RETURN_IF_ERROR(Ingest(o, input_bytes, store.get(), &table, &summary, start));
   SHINGLETON_RETURN_IF_ERROR(store->Flush());  // buckets are then scanned from sorted files
   summary.documents = table.size();
   summary.seconds_read = SecondsSince(start);
 
-  auto report = [&](const char* phase) {
-    if (o.progress) {
-      o.progress({summary.records_read, summary.text_bytes, input_bytes, input_bytes,
-                  SecondsSince(start), phase});
-    }
-  };
   report("candidates");
   Clock::time_point t = Clock::now();
   SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, *store, table, &summary));

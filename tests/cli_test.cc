@@ -47,7 +47,7 @@ TEST(CliTest, HelpDocumentsEveryOptionWithItsDefault) {
         "--text-field TEXT=text", "--url-field TEXT=url", "--shingle TEXT=word", "--shingle-size INT=0",
         "--hashes INT=128", "--bands INT=0", "--rows INT=0", "--recall-weight FLOAT=0.95",
         "--seed", "default: 0x5348494e47", "--keep TEXT=longest", "--skip-bad", "--replace",
-        "--excerpt-bytes UINT=160", "--all-pairs-limit UINT=64", "--max-leaders UINT=16", "--quiet"}) {
+        "--excerpt-bytes UINT=160", "--all-pairs-limit UINT=64", "--max-leaders UINT=16", "--quiet", "--verbose"}) {
     EXPECT_NE(help.output.find(expected), std::string::npos) << "missing in --help: " << expected;
   }
 }
