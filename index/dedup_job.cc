@@ -3,6 +3,7 @@
 #include <unistd.h>
 
 #include <oneapi/tbb/parallel_for.h>
+#include <oneapi/tbb/global_control.h>
 #include <oneapi/tbb/task_arena.h>
 
 #include <atomic>
@@ -123,6 +124,9 @@ StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& s
   std::vector<std::vector<Edge>> per_band(bands);
   std::vector<Status> statuses(bands);
   std::atomic<uint64_t> comparisons{0}, buckets{0};
+  // Allows more threads than cores when asked for (TBB would otherwise cap and warn).
+  tbb::global_control allow(tbb::global_control::max_allowed_parallelism,
+                            std::max<size_t>(ResolveThreads(o.ingest.threads), 2));
   tbb::task_arena arena(ResolveThreads(o.ingest.threads));
   arena.execute([&] {
     tbb::parallel_for(0, bands, [&](int band) {

@@ -57,18 +57,29 @@ WriteBatchBuilder::~WriteBatchBuilder() = default;
 
 void WriteBatchBuilder::AddDocument(const DocumentMeta& doc, const uint32_t* sig, int k,
                                     const uint64_t* buckets) {
-  const std::string key = Key64(doc.key);
-  batch_->Put(store_->docs_, key, IndexStore::EncodeDocument(doc));
+  AddMeta(doc);
+  AddSignature(doc.key, sig, k);
+  for (int band = 0; band < store_->scheme_.bands; ++band) AddPosting(band, buckets[band], doc.key);
+}
+
+void WriteBatchBuilder::AddMeta(const DocumentMeta& doc) {
+  batch_->Put(store_->docs_, Key64(doc.key), IndexStore::EncodeDocument(doc));
+  ++count_;
+}
+
+void WriteBatchBuilder::AddSignature(uint64_t key, const uint32_t* sig, int k) {
   value_.clear();
   for (int i = 0; i < k; ++i) PutFixed32(&value_, sig[i]);
-  batch_->Put(store_->signatures_, key, value_);
-  for (int band = 0; band < store_->scheme_.bands; ++band) {
-    key_.clear();
-    PutBigEndian16(&key_, static_cast<uint16_t>(band));
-    PutBigEndian64(&key_, buckets[band]);
-    PutBigEndian64(&key_, doc.key);
-    batch_->Put(store_->postings_, key_, rocksdb::Slice());
-  }
+  batch_->Put(store_->signatures_, Key64(key), value_);
+  ++count_;
+}
+
+void WriteBatchBuilder::AddPosting(int band, uint64_t bucket, uint64_t key) {
+  key_.clear();
+  PutBigEndian16(&key_, static_cast<uint16_t>(band));
+  PutBigEndian64(&key_, bucket);
+  PutBigEndian64(&key_, key);
+  batch_->Put(store_->postings_, key_, rocksdb::Slice());
   ++count_;
 }
 
@@ -96,8 +107,8 @@ void WriteBatchBuilder::AddEdge(const Edge& e) {
     PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
     PutBigEndian64(&key_, dir == 0 ? e.b : e.a);
     batch_->Put(store_->edges_, key_, value_);
+    ++count_;
   }
-  ++count_;
 }
 
 // ---- IndexStore ---------------------------------------------------------------

@@ -54,10 +54,17 @@ class WriteBatchBuilder {
   WriteBatchBuilder(const WriteBatchBuilder&) = delete;
   WriteBatchBuilder& operator=(const WriteBatchBuilder&) = delete;
 
-  // `sig` has k values; `buckets` has one bucket per band.
+  // Metadata, signature and one posting per band. `sig` has k values; `buckets`
+  // has one bucket per band.
   void AddDocument(const DocumentMeta& doc, const uint32_t* sig, int k, const uint64_t* buckets);
+  // The parts on their own: a shard stores only the postings it owns and the
+  // signatures of their documents; a coordinator stores metadata and signatures.
+  void AddMeta(const DocumentMeta& doc);
+  void AddSignature(uint64_t key, const uint32_t* sig, int k);
+  void AddPosting(int band, uint64_t bucket, uint64_t key);
   void AddDecision(const Decision& d);
   void AddEdge(const Edge& e);
+  // Key-value entries in the batch.
   size_t count() const { return count_; }
 
  private:

@@ -2,6 +2,7 @@
 
 #include <oneapi/tbb/enumerable_thread_specific.h>
 #include <oneapi/tbb/parallel_pipeline.h>
+#include <oneapi/tbb/global_control.h>
 #include <oneapi/tbb/task_arena.h>
 
 #include <atomic>
@@ -159,6 +160,9 @@ Status RunIngestPipeline(const IngestOptions& options, const SketchScheme& schem
     return w.get();
   };
 
+  // Allows more threads than cores when asked for (TBB would otherwise cap and warn).
+  tbb::global_control allow(tbb::global_control::max_allowed_parallelism,
+                            std::max<size_t>(ResolveThreads(options.threads), 2));
   tbb::task_arena arena(threads);
   arena.execute([&] {
     tbb::parallel_pipeline(
