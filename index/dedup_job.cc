@@ -2,16 +2,11 @@
 
 #include <unistd.h>
 
-#include <oneapi/tbb/parallel_for.h>
-#include <oneapi/tbb/global_control.h>
-#include <oneapi/tbb/task_arena.h>
-
-#include <atomic>
 #include <chrono>
 #include <filesystem>
-#include <mutex>
 
 #include "index/bands.h"
+#include "index/bucket_scan.h"
 #include "index/clusters.h"
 #include "index/doc_table.h"
 #include "index/index_store.h"
@@ -111,53 +106,20 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
   return RunIngestPipeline(o.ingest, scheme, sink);
 }
 
-// Scans every bucket of every band (bands in parallel) and verifies its members.
 StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& store,
                                       const DocTable& table, DedupSummary* summary) {
-  const int bands = store.scheme().bands;
   VerifyOptions vo;
   vo.threshold = o.threshold;
   vo.all_pairs_limit = o.all_pairs_limit;
   vo.max_leaders = o.max_leaders;
-  BucketVerifier verifier(vo, table.num_hashes(),
-                          [&table](uint64_t key) { return table.SignatureOf(key); });
-  std::vector<std::vector<Edge>> per_band(bands);
-  std::vector<Status> statuses(bands);
-  std::atomic<uint64_t> comparisons{0}, buckets{0};
-  // Allows more threads than cores when asked for (TBB would otherwise cap and warn).
-  tbb::global_control allow(tbb::global_control::max_allowed_parallelism,
-                            std::max<size_t>(ResolveThreads(o.ingest.threads), 2));
-  tbb::task_arena arena(ResolveThreads(o.ingest.threads));
-  arena.execute([&] {
-    tbb::parallel_for(0, bands, [&](int band) {
-      statuses[band] = store.ForEachBucket(
-          band, 2, [&](int bd, uint64_t, const std::vector<uint64_t>& members) {
-            ++buckets;
-            comparisons += verifier.Verify(bd, members, &per_band[bd]);
-            return Status::Ok();
-          });
-    });
-  });
-  for (const Status& s : statuses) SHINGLETON_RETURN_IF_ERROR(s);
-  std::vector<Edge> edges;
-  for (auto& v : per_band) edges.insert(edges.end(), v.begin(), v.end());
-  DeduplicateEdges(&edges);
-  summary->comparisons = comparisons.load();
-  summary->buckets_checked = buckets.load();
-  summary->edges = edges.size();
-  return edges;
-}
-
-void CountDecisions(const std::vector<Decision>& decisions, DedupSummary* summary) {
-  for (const Decision& d : decisions) {
-    if (d.kept()) {
-      ++summary->kept;
-      if (d.cluster_size >= 2) ++summary->clusters;
-    } else {
-      ++summary->dropped;
-    }
-    summary->largest_cluster = std::max<uint64_t>(summary->largest_cluster, d.cluster_size);
-  }
+  SHINGLETON_ASSIGN_OR_RETURN(
+      EdgeScan scan,
+      VerifyAllBuckets(store, vo, [&table](uint64_t key) { return table.SignatureOf(key); },
+                       ResolveThreads(o.ingest.threads)));
+  summary->comparisons = scan.comparisons;
+  summary->buckets_checked = scan.buckets_checked;
+  summary->edges = scan.edges.size();
+  return std::move(scan.edges);
 }
 
 Status PersistDecisions(IndexStore* store, const std::vector<Decision>& decisions,
@@ -209,6 +171,18 @@ class BuildDirGuard {
 };
 
 }  // namespace
+
+void CountDecisions(const std::vector<Decision>& decisions, DedupSummary* summary) {
+  for (const Decision& d : decisions) {
+    if (d.kept()) {
+      ++summary->kept;
+      if (d.cluster_size >= 2) ++summary->clusters;
+    } else {
+      ++summary->dropped;
+    }
+    summary->largest_cluster = std::max<uint64_t>(summary->largest_cluster, d.cluster_size);
+  }
+}
 
 uint64_t DedupSummary::skipped_total() const {
   uint64_t n = 0;
@@ -289,7 +263,7 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   t = Clock::now();
   SHINGLETON_RETURN_IF_ERROR(PersistDecisions(store.get(), decisions, edges));
   ManifestWriter manifests;
-  SHINGLETON_RETURN_IF_ERROR(manifests.Prepare(o.out_dir, table, decisions));
+  SHINGLETON_RETURN_IF_ERROR(manifests.Prepare(o.out_dir, ManifestRows(table, decisions)));
   summary.seconds_write = SecondsSince(t);
   summary.seconds_total = SecondsSince(start);
   const std::string summary_json = SummaryJson(o, summary);

@@ -88,6 +88,9 @@ StatusOr<SketchScheme> SchemeFromOptions(const DedupOptions& options);
 
 StatusOr<DedupSummary> RunDedupJob(const DedupOptions& options);
 
+// Adds kept, dropped, clusters and the largest cluster of `decisions` to *summary.
+void CountDecisions(const std::vector<Decision>& decisions, DedupSummary* summary);
+
 // The summary.json text of a finished job.
 std::string SummaryJson(const DedupOptions& options, const DedupSummary& summary);
 

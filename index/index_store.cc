@@ -241,6 +241,20 @@ StatusOr<std::string> IndexStore::GetJobRecord() {
   return v;
 }
 
+Status IndexStore::PutMeta(const std::string& key, const std::string& value) {
+  if (key == "layout" || key == "scheme") return Status::InvalidArgument("reserved meta key " + key);
+  rocksdb::WriteOptions wo;
+  wo.disableWAL = options_.bulk_load;
+  return FromRocks(db_->Put(wo, meta_, key, value), "writing " + key + " to " + path_);
+}
+
+StatusOr<std::string> IndexStore::GetMeta(const std::string& key) const {
+  std::string v;
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(db_->Get(rocksdb::ReadOptions(), meta_, key, &v),
+                                       "reading " + key + " of " + path_));
+  return v;
+}
+
 Status IndexStore::Flush() {
   rocksdb::FlushOptions fo;
   fo.wait = true;
@@ -277,6 +291,48 @@ Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) 
   SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "scanning postings of " + path_));
   if (!members.empty()) SHINGLETON_RETURN_IF_ERROR(emit());
   return Status::Ok();
+}
+
+StatusOr<std::vector<uint64_t>> IndexStore::BucketMembers(int band, uint64_t bucket) const {
+  std::string prefix;
+  PutBigEndian16(&prefix, static_cast<uint16_t>(band));
+  PutBigEndian64(&prefix, bucket);
+  std::vector<uint64_t> out;
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(rocksdb::ReadOptions(), postings_));
+  for (it->Seek(prefix); it->Valid() && it->key().starts_with(prefix); it->Next()) {
+    if (it->key().size() != 18) return Status::Corruption("posting key of bad size");
+    out.push_back(GetBigEndian64(it->key().data() + 10));
+  }
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "reading bucket"));
+  return out;
+}
+
+Status IndexStore::ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const {
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(rocksdb::ReadOptions(), docs_));
+  for (it->SeekToFirst(); it->Valid(); it->Next()) {
+    if (it->key().size() != 8) return Status::Corruption("document key of bad size");
+    auto doc = DecodeDocument(GetBigEndian64(it->key().data()),
+                              std::string_view(it->value().data(), it->value().size()));
+    if (!doc.ok()) return doc.status();
+    SHINGLETON_RETURN_IF_ERROR(fn(std::move(doc).value()));
+  }
+  return FromRocks(it->status(), "scanning documents of " + path_);
+}
+
+Status IndexStore::ForEachSignature(
+    const std::function<Status(uint64_t, std::vector<uint32_t>)>& fn) const {
+  const size_t k = static_cast<size_t>(scheme_.num_hashes);
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(rocksdb::ReadOptions(), signatures_));
+  for (it->SeekToFirst(); it->Valid(); it->Next()) {
+    if (it->key().size() != 8 || it->value().size() != 4 * k) {
+      return Status::Corruption("signature record of bad size in " + path_);
+    }
+    std::vector<uint32_t> sig(k);
+    Decoder d(std::string_view(it->value().data(), it->value().size()));
+    for (auto& x : sig) x = d.Fixed32();
+    SHINGLETON_RETURN_IF_ERROR(fn(GetBigEndian64(it->key().data()), std::move(sig)));
+  }
+  return FromRocks(it->status(), "scanning signatures of " + path_);
 }
 
 StatusOr<DocumentMeta> IndexStore::GetDocument(uint64_t key) const {

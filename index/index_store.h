@@ -100,6 +100,10 @@ class IndexStore {
   Status Write(WriteBatchBuilder* batch);
   Status PutJobRecord(const std::string& json);
   StatusOr<std::string> GetJobRecord();
+  // Other records of the meta family (e.g. a service job's parameters). Keys
+  // "layout" and "scheme" are reserved.
+  Status PutMeta(const std::string& key, const std::string& value);
+  StatusOr<std::string> GetMeta(const std::string& key) const;
   // Flushes memtables to SST files (used before publishing a bulk-built index).
   Status Flush();
 
@@ -108,6 +112,12 @@ class IndexStore {
   // non-OK status fn returns and passes it on.
   using BucketFn = std::function<Status(int band, uint64_t bucket, const std::vector<uint64_t>&)>;
   Status ForEachBucket(int band, size_t min_size, const BucketFn& fn) const;
+
+  // The keys of one bucket, ascending.
+  StatusOr<std::vector<uint64_t>> BucketMembers(int band, uint64_t bucket) const;
+  // Calls fn for every stored document (key order) / signature (key order).
+  Status ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const;
+  Status ForEachSignature(const std::function<Status(uint64_t, std::vector<uint32_t>)>& fn) const;
 
   StatusOr<DocumentMeta> GetDocument(uint64_t key) const;
   StatusOr<std::vector<uint32_t>> GetSignature(uint64_t key) const;

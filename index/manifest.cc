@@ -13,43 +13,52 @@ std::string ClusterLabel(uint64_t kept_key) {
   return buf;
 }
 
-Status ManifestWriter::Prepare(const std::string& dir, const DocTable& docs,
-                               const std::vector<Decision>& decisions) {
+std::vector<ManifestRow> ManifestRows(const DocTable& docs, const std::vector<Decision>& decisions) {
+  std::vector<ManifestRow> rows(docs.size());
+  for (size_t i = 0; i < docs.size(); ++i) {
+    const Decision& d = decisions[i];
+    ManifestRow& r = rows[i];
+    r.id = docs.doc(i).id;
+    if (!d.kept()) r.duplicate_of = docs.doc(static_cast<size_t>(docs.IndexOf(d.kept_key))).id;
+    r.cluster = d.cluster;
+    r.cluster_size = d.cluster_size;
+    r.similarity = d.similarity;
+  }
+  return rows;
+}
+
+Status ManifestWriter::Prepare(const std::string& dir, const std::vector<ManifestRow>& rows) {
   keep_ = std::make_unique<AtomicFile>(dir + "/keep.jsonl");
   drop_ = std::make_unique<AtomicFile>(dir + "/drop.jsonl");
   SHINGLETON_RETURN_IF_ERROR(keep_->Open());
   SHINGLETON_RETURN_IF_ERROR(drop_->Open());
   std::string keep_buf, drop_buf;
   JsonWriter w;
-  for (size_t i = 0; i < docs.size(); ++i) {
-    const Decision& d = decisions[i];
+  for (const ManifestRow& r : rows) {
     w.Clear();
     w.BeginObject();
     w.Key("id");
-    w.String(docs.doc(i).id);
-    if (d.kept()) {
+    w.String(r.id);
+    if (r.kept()) {
       w.Key("cluster");
-      w.String(ClusterLabel(d.cluster));
+      w.String(ClusterLabel(r.cluster));
       w.Key("cluster_size");
-      w.Uint(d.cluster_size);
+      w.Uint(r.cluster_size);
     } else {
-      const int64_t kept = docs.IndexOf(d.kept_key);
       w.Key("duplicate_of");
-      w.String(docs.doc(static_cast<size_t>(kept)).id);
+      w.String(r.duplicate_of);
       w.Key("cluster");
-      w.String(ClusterLabel(d.cluster));
+      w.String(ClusterLabel(r.cluster));
       w.Key("similarity");
-      w.Double(d.similarity, 4);
+      w.Double(r.similarity, 4);
     }
     w.EndObject();
-    std::string& buf = d.kept() ? keep_buf : drop_buf;
+    std::string& buf = r.kept() ? keep_buf : drop_buf;
     buf += w.str();
     buf.push_back('\n');
-    for (auto* pair : {&keep_buf, &drop_buf}) {
-      if (pair->size() > (1 << 20)) {
-        SHINGLETON_RETURN_IF_ERROR((pair == &keep_buf ? keep_ : drop_)->Append(*pair));
-        pair->clear();
-      }
+    if (buf.size() > (1 << 20)) {
+      SHINGLETON_RETURN_IF_ERROR((r.kept() ? keep_ : drop_)->Append(buf));
+      buf.clear();
     }
   }
   SHINGLETON_RETURN_IF_ERROR(keep_->Append(keep_buf));

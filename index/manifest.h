@@ -21,12 +21,23 @@ namespace shingleton {
 
 std::string ClusterLabel(uint64_t kept_key);
 
+// One line of a manifest: a decision with the ids resolved.
+struct ManifestRow {
+  std::string id;
+  std::string duplicate_of;  // empty when kept
+  uint64_t cluster = 0;      // the kept document's key
+  uint32_t cluster_size = 1;
+  float similarity = 1;
+  bool kept() const { return duplicate_of.empty(); }
+};
+
+// Rows in table order. REQUIRES: decisions[i] belongs to docs.doc(i).
+std::vector<ManifestRow> ManifestRows(const DocTable& docs, const std::vector<Decision>& decisions);
+
 class ManifestWriter {
  public:
-  // Writes both files to temporaries in `dir` (invisible until Commit()).
-  // REQUIRES: decisions[i] belongs to docs.doc(i).
-  Status Prepare(const std::string& dir, const DocTable& docs,
-                 const std::vector<Decision>& decisions);
+  // Writes both files to temporaries in `dir` (invisible until Commit()), rows in order.
+  Status Prepare(const std::string& dir, const std::vector<ManifestRow>& rows);
   // Renames both into place.
   Status Commit();
 
