@@ -7,5 +7,9 @@
 namespace shingleton::cli {
 
 void AddDedupCommand(CLI::App* app, int* rc);
+void AddShardCommand(CLI::App* app, int* rc);
+void AddCoordinatorCommand(CLI::App* app, int* rc);
+void AddIngestCommand(CLI::App* app, int* rc);
+void AddFinalizeCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

@@ -1,0 +1,200 @@
+// `shingleton ingest`: an ingest worker. Reads and signs documents locally with the
+// same IngestPipeline as the embedded job, and streams signatures and metadata
+// (never the text) to the coordinator, one acknowledged batch at a time.
+//
+// Retries: when the stream breaks (coordinator restart, network), the worker
+// reconnects and re-sends the unacknowledged batch; re-sending is harmless because
+// the coordinator recognises documents it already holds.
+#include <chrono>
+#include <iostream>
+#include <memory>
+#include <thread>
+
+#include "client/commands.h"
+#include "client/job_flags.h"
+#include "client/progress.h"
+#include "index/ingest_pipeline.h"
+#include "shingleton/v1/service.grpc.pb.h"
+
+namespace shingleton::cli {
+namespace {
+
+struct IngestFlags {
+  JobFlags job;
+  ClientFlags client;
+  std::string job_name;
+  std::string worker;
+  double stream_deadline_s = 6 * 3600;
+  int retries = 5;
+};
+
+bool Retryable(const grpc::Status& s) {
+  return s.error_code() == grpc::StatusCode::UNAVAILABLE ||
+         s.error_code() == grpc::StatusCode::ABORTED ||
+         s.error_code() == grpc::StatusCode::CANCELLED;
+}
+
+// One bidirectional Ingest stream that reopens itself on transient failures.
+class IngestStream {
+ public:
+  IngestStream(v1::Coordinator::Stub* stub, const IngestFlags& f) : stub_(stub), f_(f) {}
+
+  Status Send(const v1::IngestRequest& req, v1::IngestAck* ack) {
+    grpc::Status last;
+    for (int attempt = 0; attempt <= f_.retries; ++attempt) {
+      if (attempt > 0) std::this_thread::sleep_for(std::chrono::milliseconds(250 << std::min(attempt, 5)));
+      if (!stream_) Open();
+      if (stream_->Write(req) && stream_->Read(ack)) return Status::Ok();
+      last = Reset();
+      if (!Retryable(last)) break;
+      std::cerr << "shingleton ingest: stream broke (" << last.error_message() << "), retrying\n";
+    }
+    return rpc::FromGrpcStatus(last, "ingest into job " + req.job());
+  }
+
+  Status Close() {
+    if (!stream_) return Status::Ok();
+    stream_->WritesDone();
+    grpc::Status s = stream_->Finish();
+    stream_.reset();
+    ctx_.reset();
+    return rpc::FromGrpcStatus(s, "closing the ingest stream");
+  }
+
+ private:
+  void Open() {
+    ctx_ = std::make_unique<grpc::ClientContext>();
+    rpc::PrepareContext(ctx_.get(), f_.client.security, f_.stream_deadline_s);
+    stream_ = stub_->Ingest(ctx_.get());
+  }
+  grpc::Status Reset() {
+    grpc::Status s = stream_->Finish();
+    stream_.reset();
+    ctx_.reset();
+    return s;
+  }
+
+  v1::Coordinator::Stub* stub_;
+  const IngestFlags& f_;
+  std::unique_ptr<grpc::ClientContext> ctx_;
+  std::unique_ptr<grpc::ClientReaderWriter<v1::IngestRequest, v1::IngestAck>> stream_;
+};
+
+std::string PackSignature(const uint32_t* sig, int k) {
+  std::string out(4 * static_cast<size_t>(k), '\0');
+  for (int i = 0; i < k; ++i) {
+    for (int b = 0; b < 4; ++b) out[4 * i + b] = static_cast<char>(sig[i] >> (8 * b));
+  }
+  return out;
+}
+
+int RunIngest(IngestFlags& f) {
+  Status s = ApplyJobFlags(&f.job);
+  if (s.ok()) s = ApplyClientFlags(&f.client);
+  if (!s.ok()) {
+    std::cerr << "shingleton ingest: " << s.message() << "\n";
+    return 2;
+  }
+  const DedupOptions& o = f.job.options;
+  auto scheme = SchemeFromOptions(o);
+  if (!scheme.ok()) {
+    std::cerr << "shingleton ingest: " << scheme.status().message() << "\n";
+    return 2;
+  }
+  auto channel = rpc::MakeChannel(f.client.coordinator, f.client.security);
+  if (!channel.ok()) {
+    std::cerr << "shingleton ingest: " << channel.status().message() << "\n";
+    return 2;
+  }
+  auto stub = v1::Coordinator::NewStub(channel.value());
+  IngestStream stream(stub.get(), f);
+
+  v1::JobParams params;
+  params.set_scheme(scheme->Serialize());
+  params.set_threshold(o.threshold);
+  params.set_keep_policy(o.policy.Name());
+  params.set_all_pairs_limit(static_cast<uint32_t>(o.all_pairs_limit));
+  params.set_max_leaders(static_cast<uint32_t>(o.max_leaders));
+  const int k = scheme->num_hashes, bands = scheme->bands;
+  uint64_t seq = 0, ordinal = 0, sent = 0, accepted = 0, repeated = 0, skipped = 0;
+  const auto start = std::chrono::steady_clock::now();
+
+  auto sink = [&](const SignedBatch& batch) -> Status {
+    v1::IngestRequest req;
+    req.set_job(f.job_name);
+    *req.mutable_params() = params;
+    req.set_batch_seq(seq++);
+    req.set_worker(f.worker);
+    for (size_t i = 0; i < batch.records.size(); ++i) {
+      const SignedRecord& rec = batch.records[i];
+      if (rec.bad != BadRecord::kNone) {
+        if (!o.skip_bad) return rec.error;
+        ++skipped;
+        continue;
+      }
+      v1::SignedDocument* d = req.add_documents();
+      d->set_id(rec.meta.id);
+      d->set_key(rec.meta.key);
+      d->set_url(rec.meta.url);
+      d->set_text_bytes(rec.meta.text_bytes);
+      d->set_tokens(rec.meta.tokens);
+      d->set_has_rank(!std::isnan(rec.meta.rank));
+      if (d->has_rank()) d->set_rank(rec.meta.rank);
+      d->set_source(rec.meta.source);
+      d->set_excerpt(rec.meta.excerpt);
+      d->set_ordinal(ordinal++);
+      d->set_signature(PackSignature(batch.sig(i, k), k));
+      const uint64_t* b = batch.bucket(i, bands);
+      for (int j = 0; j < bands; ++j) d->add_buckets(b[j]);
+    }
+    v1::IngestAck ack;
+    SHINGLETON_RETURN_IF_ERROR(stream.Send(req, &ack));
+    sent += req.documents_size();
+    accepted += ack.accepted();
+    repeated += ack.repeated_documents();
+    if (ack.rejected_size() > 0) {
+      if (!o.skip_bad) return Status::BadInput(ack.rejected(0));
+      skipped += ack.rejected_size();
+    }
+    return Status::Ok();
+  };
+  s = RunIngestPipeline(o.ingest, scheme.value(), sink);
+  Status closed = stream.Close();
+  if (s.ok()) s = closed;
+  if (!s.ok()) {
+    std::cerr << "shingleton ingest: " << s.ToString() << "\n"
+              << "shingleton ingest: " << accepted
+              << " documents were acknowledged before the error; running the same ingest again is safe\n";
+    return 1;
+  }
+  const double secs = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  std::cout << "shingleton ingest: job " << f.job_name << ": " << WithCommas(sent) << " documents sent, "
+            << WithCommas(accepted) << " new, " << WithCommas(repeated) << " already present, "
+            << WithCommas(skipped) << " skipped, in " << secs << " s\n";
+  return 0;
+}
+
+}  // namespace
+
+void AddIngestCommand(CLI::App* app, int* rc) {
+  auto f = std::make_shared<IngestFlags>();
+  CLI::App* cmd = app->add_subcommand(
+      "ingest",
+      "Ingest worker: sign JSON Lines documents locally and stream their signatures and\n"
+      "metadata (not the text) to a coordinator. The first ingest of a job creates it with\n"
+      "these parameters; later ones must use the same. Safe to re-run after a failure.");
+  cmd->add_option("-i,--input", f->job.options.ingest.inputs, "Input file (JSONL, plain or .gz); repeatable")
+      ->required()
+      ->check(CLI::ExistingFile);
+  cmd->add_option("--job", f->job_name, "Job name (letters, digits, - _ .)")->required();
+  cmd->add_option("--worker", f->worker, "Worker name for the coordinator's logs");
+  AddJobFlags(cmd, &f->job);
+  AddClientFlags(cmd, &f->client);
+  cmd->add_option("--stream-deadline", f->stream_deadline_s, "Deadline of one ingest stream, seconds")
+      ->capture_default_str();
+  cmd->add_option("--retries", f->retries, "Re-sends of a batch after transient failures")
+      ->capture_default_str();
+  cmd->callback([f, rc] { *rc = RunIngest(*f); });
+}
+
+}  // namespace shingleton::cli

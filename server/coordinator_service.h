@@ -1,0 +1,94 @@
+// CoordinatorService: shingleton.v1.Coordinator — jobs, the shard map, document
+// metadata, union-find and manifests; a thin adapter over the index/ library.
+//
+// State: <state>/jobs/<job> is an IndexStore holding the job's documents
+// (metadata and signatures, no postings), its parameters (meta "params"), its
+// shard map (meta "shards") and, after Finalize, decisions and edges. It survives
+// restarts; the shard list given at start must equal the one each job was made with.
+//
+// Ingest: a batch is checked (sizes, key = DocKey(id), duplicate ids), its new
+// documents' postings go to the shards owning their buckets (ShardOf), then the
+// metadata is written here (fsync'd); only then is the batch acknowledged. A
+// re-sent batch finds its documents present with equal signatures and changes
+// nothing. Batches of one job are applied one at a time (Job::mu); different
+// jobs and the signing on the workers run in parallel.
+//
+// Thread safety: RPCs may run concurrently; blocking work runs on pool_.
+#pragma once
+
+#include <map>
+#include <memory>
+#include <mutex>
+#include <string>
+#include <vector>
+
+#include "index/index_store.h"
+#include "index/keep_policy.h"
+#include "shingleton/v1/service.grpc.pb.h"
+#include "server/grpc_common.h"
+#include "server/thread_pool.h"
+
+namespace shingleton::rpc {
+
+struct CoordinatorOptions {
+  std::string state_dir;
+  std::vector<std::string> shards;  // the shard map, in order
+  ClientSecurity shard_security;    // how to reach the shards
+  std::string token;                // required of callers when non-empty
+  int max_message_mb = kDefaultMaxMessageMb;
+  double shard_deadline_s = 120;    // per call to a shard
+};
+
+class CoordinatorService final : public v1::Coordinator::CallbackService {
+ public:
+  static StatusOr<std::unique_ptr<CoordinatorService>> Create(CoordinatorOptions options);
+  ~CoordinatorService() override;
+
+  grpc::ServerBidiReactor<v1::IngestRequest, v1::IngestAck>* Ingest(
+      grpc::CallbackServerContext* ctx) override;
+  grpc::ServerUnaryReactor* Query(grpc::CallbackServerContext* ctx, const v1::QueryRequest* req,
+                                  v1::QueryResponse* resp) override;
+  grpc::ServerWriteReactor<v1::FinalizeResponse>* Finalize(
+      grpc::CallbackServerContext* ctx, const v1::FinalizeRequest* req) override;
+  grpc::ServerUnaryReactor* GetJobStats(grpc::CallbackServerContext* ctx,
+                                        const v1::JobStatsRequest* req,
+                                        v1::JobStats* resp) override;
+
+  void FlushAll();
+  ThreadPool& pool() { return *pool_; }
+  const std::string& token() const { return options_.token; }
+
+  // The RPC bodies (run on the pool).
+  Status ProcessBatch(const v1::IngestRequest& req, v1::IngestAck* ack);
+  Status DoQuery(const v1::QueryRequest& req, v1::QueryResponse* resp);
+  StatusOr<std::vector<v1::FinalizeResponse>> DoFinalize(const v1::FinalizeRequest& req);
+  Status DoJobStats(const v1::JobStatsRequest& req, v1::JobStats* resp);
+
+ private:
+  struct Job {
+    std::string name;
+    v1::JobParams params;
+    SketchScheme scheme;
+    KeepPolicy policy;
+    std::unique_ptr<IndexStore> store;
+    std::mutex mu;            // one batch or finalize at a time
+    uint64_t batches = 0;     // GUARDED_BY(mu)
+    uint64_t documents = 0;   // GUARDED_BY(mu)
+  };
+  explicit CoordinatorService(CoordinatorOptions options);
+  Status LoadJobs();
+  StatusOr<Job*> GetJob(const std::string& name);
+  StatusOr<Job*> GetOrCreateJob(const std::string& name, const v1::JobParams& params);
+  Status WriteToShards(Job* job, const std::vector<const v1::SignedDocument*>& docs);
+
+  CoordinatorOptions options_;
+  std::vector<std::unique_ptr<v1::IndexShard::Stub>> shards_;
+  std::mutex mu_;
+  std::map<std::string, std::unique_ptr<Job>> jobs_;  // GUARDED_BY(mu_)
+  std::unique_ptr<ThreadPool> pool_;
+};
+
+// Checks and fills defaults of job parameters; the canonical form is compared.
+StatusOr<v1::JobParams> NormalizeParams(const v1::JobParams& params);
+
+}  // namespace shingleton::rpc

@@ -1,0 +1,237 @@
+#include "server/shard_service.h"
+
+#include <filesystem>
+#include <thread>
+#include <unordered_map>
+
+#include "index/bucket_scan.h"
+#include "index/minhash.h"
+#include "server/grpc_common.h"
+
+namespace shingleton::rpc {
+namespace {
+
+namespace fs = std::filesystem;
+
+bool ValidJobName(const std::string& job) {
+  if (job.empty() || job.size() > 128) return false;
+  for (char c : job) {
+    if (!(std::isalnum(static_cast<unsigned char>(c)) || c == '-' || c == '_' || c == '.')) return false;
+  }
+  return job != "." && job != "..";
+}
+
+std::vector<uint32_t> UnpackSignature(const std::string& bytes) {
+  std::vector<uint32_t> sig(bytes.size() / 4);
+  for (size_t i = 0; i < sig.size(); ++i) {
+    const auto* p = reinterpret_cast<const unsigned char*>(bytes.data() + 4 * i);
+    sig[i] = p[0] | (p[1] << 8) | (p[2] << 16) | (static_cast<uint32_t>(p[3]) << 24);
+  }
+  return sig;
+}
+
+// Streams a finished edge scan in chunks.
+class VerifyReactor : public grpc::ServerWriteReactor<v1::VerifyResponse> {
+ public:
+  explicit VerifyReactor(std::vector<v1::VerifyResponse> chunks) : chunks_(std::move(chunks)) {
+    Next();
+  }
+  void OnWriteDone(bool ok) override {
+    if (!ok) {
+      Finish(grpc::Status(grpc::StatusCode::CANCELLED, "client went away"));
+      return;
+    }
+    Next();
+  }
+  void OnDone() override { delete this; }
+
+ private:
+  void Next() {
+    if (next_ == chunks_.size()) {
+      Finish(grpc::Status::OK);
+      return;
+    }
+    StartWrite(&chunks_[next_++]);
+  }
+  std::vector<v1::VerifyResponse> chunks_;
+  size_t next_ = 0;
+};
+
+class FailedWrite : public grpc::ServerWriteReactor<v1::VerifyResponse> {
+ public:
+  explicit FailedWrite(grpc::Status s) { Finish(std::move(s)); }
+  void OnDone() override { delete this; }
+};
+
+}  // namespace
+
+ShardService::ShardService(std::string db_dir, std::string token, std::string address)
+    : db_dir_(std::move(db_dir)), token_(std::move(token)), address_(std::move(address)) {}
+
+ShardService::~ShardService() = default;
+
+StatusOr<IndexStore*> ShardService::StoreFor(const std::string& job, const std::string& scheme_text) {
+  if (!ValidJobName(job)) return Status::InvalidArgument("bad job name '" + job + "'");
+  std::lock_guard<std::mutex> lock(mu_);
+  auto it = stores_.find(job);
+  const std::string path = db_dir_ + "/jobs/" + job;
+  StoreOptions so;
+  so.sync_writes = true;
+  if (it == stores_.end()) {
+    std::unique_ptr<IndexStore> store;
+    if (fs::exists(path)) {
+      SHINGLETON_ASSIGN_OR_RETURN(store, IndexStore::Open(path, nullptr, so));
+    } else {
+      if (scheme_text.empty()) return Status::NotFound("shard " + address_ + " has no job " + job);
+      SHINGLETON_ASSIGN_OR_RETURN(SketchScheme scheme, SketchScheme::Parse(scheme_text));
+      std::error_code ec;
+      fs::create_directories(db_dir_ + "/jobs", ec);
+      SHINGLETON_ASSIGN_OR_RETURN(store, IndexStore::Create(path, scheme, so));
+    }
+    it = stores_.emplace(job, std::move(store)).first;
+  }
+  if (!scheme_text.empty() && it->second->scheme().Serialize() != scheme_text) {
+    return Status::Mismatch("job " + job + " on shard " + address_ + " has scheme " +
+                            it->second->scheme().Serialize() + ", not " + scheme_text);
+  }
+  return it->second.get();
+}
+
+Status ShardService::DoWrite(const v1::WriteRequest& req, v1::WriteResponse* resp) {
+  SHINGLETON_ASSIGN_OR_RETURN(IndexStore * store, StoreFor(req.job(), req.scheme()));
+  const int k = store->scheme().num_hashes;
+  WriteBatchBuilder batch(store);
+  for (const auto& [key, bytes] : req.signatures()) {
+    if (bytes.size() != 4 * static_cast<size_t>(k)) {
+      return Status::InvalidArgument("signature of " + std::to_string(bytes.size()) + " bytes; the scheme has k = " +
+                                     std::to_string(k));
+    }
+    const std::vector<uint32_t> sig = UnpackSignature(bytes);
+    batch.AddSignature(key, sig.data(), k);
+  }
+  for (const v1::Posting& p : req.postings()) {
+    if (p.band() >= static_cast<uint32_t>(store->scheme().bands)) {
+      return Status::InvalidArgument("posting for band " + std::to_string(p.band()));
+    }
+    batch.AddPosting(static_cast<int>(p.band()), p.bucket(), p.doc());
+  }
+  SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
+  resp->set_postings_written(req.postings_size());
+  return Status::Ok();
+}
+
+grpc::ServerUnaryReactor* ShardService::Write(grpc::CallbackServerContext* ctx,
+                                              const v1::WriteRequest* req, v1::WriteResponse* resp) {
+  auto* reactor = ctx->DefaultReactor();
+  grpc::Status auth = CheckToken(ctx, token_);
+  reactor->Finish(auth.ok() ? ToGrpcStatus(DoWrite(*req, resp)) : auth);
+  return reactor;
+}
+
+Status ShardService::DoLookup(const v1::LookupRequest& req, v1::LookupResponse* resp) {
+  SHINGLETON_ASSIGN_OR_RETURN(IndexStore * store, StoreFor(req.job(), ""));
+  const int k = store->scheme().num_hashes;
+  if (req.signature().size() != 4 * static_cast<size_t>(k)) {
+    return Status::InvalidArgument("query signature has the wrong size for this job's scheme");
+  }
+  const std::vector<uint32_t> query = UnpackSignature(req.signature());
+  std::vector<uint64_t> docs;
+  for (const v1::Posting& p : req.probes()) {
+    SHINGLETON_ASSIGN_OR_RETURN(auto members, store->BucketMembers(static_cast<int>(p.band()), p.bucket()));
+    docs.insert(docs.end(), members.begin(), members.end());
+  }
+  std::sort(docs.begin(), docs.end());
+  docs.erase(std::unique(docs.begin(), docs.end()), docs.end());
+  for (uint64_t doc : docs) {
+    SHINGLETON_ASSIGN_OR_RETURN(auto sig, store->GetSignature(doc));
+    const double sim = EstimateJaccard(query.data(), sig.data(), k);
+    if (sim >= req.min_similarity()) {
+      auto* hit = resp->add_hits();
+      hit->set_doc(doc);
+      hit->set_similarity(sim);
+    }
+  }
+  return Status::Ok();
+}
+
+grpc::ServerUnaryReactor* ShardService::Lookup(grpc::CallbackServerContext* ctx,
+                                               const v1::LookupRequest* req,
+                                               v1::LookupResponse* resp) {
+  auto* reactor = ctx->DefaultReactor();
+  grpc::Status auth = CheckToken(ctx, token_);
+  reactor->Finish(auth.ok() ? ToGrpcStatus(DoLookup(*req, resp)) : auth);
+  return reactor;
+}
+
+grpc::ServerWriteReactor<v1::VerifyResponse>* ShardService::Verify(grpc::CallbackServerContext* ctx,
+                                                                   const v1::VerifyRequest* req) {
+  grpc::Status auth = CheckToken(ctx, token_);
+  if (!auth.ok()) return new FailedWrite(auth);
+  auto store = StoreFor(req->job(), "");
+  if (!store.ok()) return new FailedWrite(ToGrpcStatus(store.status()));
+  // Signatures of this shard's documents, for verification inside its buckets.
+  std::unordered_map<uint64_t, std::vector<uint32_t>> sigs;
+  Status loaded = store.value()->ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) {
+    sigs.emplace(key, std::move(sig));
+    return Status::Ok();
+  });
+  if (!loaded.ok()) return new FailedWrite(ToGrpcStatus(loaded));
+  VerifyOptions vo;
+  vo.threshold = req->threshold();
+  if (req->all_pairs_limit()) vo.all_pairs_limit = req->all_pairs_limit();
+  if (req->max_leaders()) vo.max_leaders = req->max_leaders();
+  auto scan = VerifyAllBuckets(
+      *store.value(), vo,
+      [&sigs](uint64_t key) -> const uint32_t* {
+        auto it = sigs.find(key);
+        return it == sigs.end() ? nullptr : it->second.data();
+      },
+      static_cast<int>(std::max(1u, std::thread::hardware_concurrency())));
+  if (!scan.ok()) return new FailedWrite(ToGrpcStatus(scan.status()));
+  constexpr size_t kChunk = 20000;
+  std::vector<v1::VerifyResponse> chunks;
+  const auto& edges = scan->edges;
+  for (size_t i = 0; i == 0 || i < edges.size(); i += kChunk) {
+    v1::VerifyResponse& chunk = chunks.emplace_back();
+    for (size_t j = i; j < std::min(edges.size(), i + kChunk); ++j) {
+      v1::Edge* e = chunk.add_edges();
+      e->set_a(edges[j].a);
+      e->set_b(edges[j].b);
+      e->set_similarity(edges[j].similarity);
+      e->set_band(edges[j].band);
+    }
+  }
+  chunks.back().set_buckets_checked(scan->buckets_checked);
+  chunks.back().set_comparisons(scan->comparisons);
+  return new VerifyReactor(std::move(chunks));
+}
+
+grpc::ServerUnaryReactor* ShardService::GetStats(grpc::CallbackServerContext* ctx,
+                                                 const v1::ShardStatsRequest* req,
+                                                 v1::ShardStats* resp) {
+  auto* reactor = ctx->DefaultReactor();
+  grpc::Status auth = CheckToken(ctx, token_);
+  if (!auth.ok()) {
+    reactor->Finish(auth);
+    return reactor;
+  }
+  resp->set_address(address_);
+  std::error_code ec;
+  uint64_t bytes = 0;
+  const fs::path dir = fs::path(db_dir_) / "jobs" / req->job();
+  if (fs::exists(dir)) {
+    for (const auto& e : fs::recursive_directory_iterator(dir, ec)) {
+      if (e.is_regular_file(ec)) bytes += e.file_size(ec);
+    }
+  }
+  resp->set_disk_bytes(bytes);
+  reactor->Finish(grpc::Status::OK);
+  return reactor;
+}
+
+void ShardService::FlushAll() {
+  std::lock_guard<std::mutex> lock(mu_);
+  for (auto& [job, store] : stores_) (void)store->Flush();
+}
+
+}  // namespace shingleton::rpc
