@@ -1,0 +1,259 @@
+// The distributed service end to end, with real processes on 127.0.0.1 and
+// ephemeral ports: shards + coordinator + concurrent ingest workers + finalize.
+// The contract: the finalized manifests equal the embedded job's decisions (as
+// sets) for any shard count and any interleaving of workers; re-sending changes
+// nothing; failures give clear status codes and lose nothing acknowledged.
+#include <gtest/gtest.h>
+
+#include <algorithm>
+#include <fstream>
+#include <memory>
+#include <set>
+#include <thread>
+
+#include "index/dedup_job.h"
+#include "tests/process_util.h"
+#include "tests/test_util.h"
+
+namespace shingleton {
+namespace {
+
+using namespace shingleton::testing;
+
+const std::string kCorpus = std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/crawl-2026-11.jsonl";
+
+// Shards and a coordinator as child processes in one temporary directory.
+class LocalCluster {
+ public:
+  LocalCluster(const TempDir& dir, int shards, std::vector<std::string> server_args = {},
+               std::vector<std::string> coordinator_args = {})
+      : dir_(dir), server_args_(std::move(server_args)), coordinator_args_(std::move(coordinator_args)) {
+    for (int i = 0; i < shards; ++i) StartShard(i);
+    std::string list;
+    for (int i = 0; i < shards; ++i) list += (i ? "," : "") + shard_addresses_[i];
+    std::vector<std::string> args = {"coordinator", "--listen", "127.0.0.1:0", "--shards", list,
+                                     "--state", dir_.File("coord"), "--port-file", dir_.File("coord.port")};
+    args.insert(args.end(), server_args_.begin(), server_args_.end());
+    args.insert(args.end(), coordinator_args_.begin(), coordinator_args_.end());
+    coordinator_.Start(args, dir_.File("coord.log"));
+    coordinator_address_ = WaitForPortFile(dir_.File("coord.port"));
+  }
+
+  bool ok() const {
+    if (coordinator_address_.empty()) return false;
+    for (const auto& a : shard_addresses_) {
+      if (a.empty()) return false;
+    }
+    return true;
+  }
+  const std::string& coordinator() const { return coordinator_address_; }
+  ChildProcess& shard(int i) { return *shards_[i]; }
+  void RestartShard(int i) { StartShard(i, shard_addresses_[i]); }
+
+  // SIGTERM to everything; true if every process drained and exited 0.
+  bool Stop() {
+    bool clean = coordinator_.Terminate() == 0;
+    for (auto& s : shards_) {
+      if (s->running()) clean &= s->Terminate() == 0;
+    }
+    return clean;
+  }
+  std::string Logs() const {
+    std::string all = ReadFile(dir_.File("coord.log"));
+    for (size_t i = 0; i < shards_.size(); ++i) all += ReadFile(dir_.File("shard" + std::to_string(i) + ".log"));
+    return all;
+  }
+
+ private:
+  void StartShard(int i, const std::string& address = "127.0.0.1:0") {
+    const std::string n = std::to_string(i);
+    const std::string port_file = dir_.File("shard" + n + ".port");
+    std::remove(port_file.c_str());
+    std::vector<std::string> args = {"shard", "--listen", address, "--db", dir_.File("shard" + n),
+                                     "--port-file", port_file};
+    args.insert(args.end(), server_args_.begin(), server_args_.end());
+    if (static_cast<size_t>(i) >= shards_.size()) {
+      shards_.push_back(std::make_unique<ChildProcess>());
+      shard_addresses_.emplace_back();
+    }
+    shards_[i]->Start(args, dir_.File("shard" + n + ".log"));
+    shard_addresses_[i] = WaitForPortFile(port_file);
+  }
+
+  const TempDir& dir_;
+  std::vector<std::string> server_args_, coordinator_args_;
+  std::vector<std::unique_ptr<ChildProcess>> shards_;
+  std::vector<std::string> shard_addresses_;
+  ChildProcess coordinator_;
+  std::string coordinator_address_;
+};
+
+// Splits the demo corpus into `parts` files, lines dealt round-robin after a
+// fixed shuffle, so workers interleave documents of the same families.
+std::vector<std::string> SplitCorpus(const TempDir& dir, int parts) {
+  std::ifstream in(kCorpus);
+  std::vector<std::string> lines;
+  for (std::string line; std::getline(in, line);) lines.push_back(line);
+  std::vector<std::string> paths;
+  std::vector<std::string> contents(parts);
+  for (size_t i = 0; i < lines.size(); ++i) contents[(i * 7919) % parts] += lines[i] + "\n";
+  for (int p = 0; p < parts; ++p) {
+    paths.push_back(dir.File("part" + std::to_string(p) + ".jsonl"));
+    WriteFile(paths.back(), contents[p]);
+  }
+  return paths;
+}
+
+Manifests EmbeddedDecisions(const TempDir& dir) {
+  DedupOptions o;
+  o.ingest.inputs = {kCorpus};
+  o.out_dir = dir.File("embedded");
+  auto s = RunDedupJob(o);
+  EXPECT_TRUE(s.ok()) << s.status().ToString();
+  return ReadManifests(o.out_dir);
+}
+
+void IngestConcurrently(const std::string& coordinator, const std::vector<std::string>& parts,
+                        const std::vector<std::string>& extra = {}) {
+  std::vector<std::thread> workers;
+  std::vector<RunResult> results(parts.size());
+  for (size_t i = 0; i < parts.size(); ++i) {
+    workers.emplace_back([&, i] {
+      std::vector<std::string> args = {"ingest", "--coordinator", coordinator, "--job", "demo",
+                                       "--input", parts[i], "--worker", "w" + std::to_string(i),
+                                       "--threads", "1"};
+      args.insert(args.end(), extra.begin(), extra.end());
+      results[i] = RunShingleton(args);
+    });
+  }
+  for (auto& t : workers) t.join();
+  for (const auto& r : results) EXPECT_EQ(r.exit_code, 0) << r.output;
+}
+
+class ServiceEqualsEmbedded : public ::testing::TestWithParam<int> {};
+
+TEST_P(ServiceEqualsEmbedded, TwoConcurrentWorkersGiveTheEmbeddedDecisions) {
+  TempDir dir;
+  LocalCluster cluster(dir, GetParam());
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  IngestConcurrently(cluster.coordinator(), SplitCorpus(dir, 2));
+  RunResult fin = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                 "--out", dir.File("service")});
+  ASSERT_EQ(fin.exit_code, 0) << fin.output << cluster.Logs();
+  const Manifests service = ReadManifests(dir.File("service"));
+  const Manifests embedded = EmbeddedDecisions(dir);
+  EXPECT_EQ(service.kept_of.size(), 2500u);
+  EXPECT_EQ(service.kept_of, embedded.kept_of);
+  EXPECT_EQ(service.kept, embedded.kept);
+
+  // A retry (the same input again) changes nothing.
+  RunResult again = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                   "--input", kCorpus});
+  EXPECT_EQ(again.exit_code, 0) << again.output;
+  EXPECT_NE(again.output.find("0 new, 2,500 already present"), std::string::npos) << again.output;
+  RunResult fin2 = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                  "--out", dir.File("service2")});
+  ASSERT_EQ(fin2.exit_code, 0) << fin2.output;
+  EXPECT_EQ(ReadManifests(dir.File("service2")).kept_of, embedded.kept_of);
+  EXPECT_TRUE(cluster.Stop()) << "a server did not drain and exit 0 on SIGTERM\n" << cluster.Logs();
+}
+
+INSTANTIATE_TEST_SUITE_P(Shards, ServiceEqualsEmbedded, ::testing::Values(1, 3));
+
+// Later ingests must use the job's parameters; the refusal names the difference.
+TEST(ServiceTest, MismatchedParametersAreRefused) {
+  TempDir dir;
+  LocalCluster cluster(dir, 2);
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  auto parts = SplitCorpus(dir, 2);
+  RunResult first = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                   "--input", parts[0]});
+  ASSERT_EQ(first.exit_code, 0) << first.output;
+  RunResult other = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                   "--input", parts[1], "--threshold", "0.7"});
+  EXPECT_EQ(other.exit_code, 1);
+  EXPECT_NE(other.output.find("exists with other parameters"), std::string::npos) << other.output;
+  EXPECT_NE(other.output.find("threshold"), std::string::npos) << other.output;
+  EXPECT_TRUE(cluster.Stop());
+}
+
+// A shard that is down: the ingest fails with UNAVAILABLE naming the shard and
+// nothing is acknowledged for that batch; once the shard is back, ingesting again
+// completes the job and the decisions equal the embedded job's.
+TEST(ServiceTest, ShardDownFailsClearlyAndLosesNothing) {
+  TempDir dir;
+  LocalCluster cluster(dir, 3);
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  ASSERT_EQ(cluster.shard(1).Terminate(), 0);
+  RunResult down = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                  "--input", kCorpus, "--retries", "1"});
+  EXPECT_EQ(down.exit_code, 1);
+  EXPECT_NE(down.output.find("writing to shard"), std::string::npos) << down.output;
+  EXPECT_NE(down.output.find("gRPC 14"), std::string::npos) << down.output;  // UNAVAILABLE
+  cluster.RestartShard(1);
+  ASSERT_TRUE(cluster.ok());
+  RunResult up = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                "--input", kCorpus});
+  ASSERT_EQ(up.exit_code, 0) << up.output << cluster.Logs();
+  RunResult fin = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                 "--out", dir.File("service")});
+  ASSERT_EQ(fin.exit_code, 0) << fin.output;
+  EXPECT_EQ(ReadManifests(dir.File("service")).kept_of, EmbeddedDecisions(dir).kept_of);
+  EXPECT_TRUE(cluster.Stop());
+}
+
+// Message limits and deadlines give clear status codes, and the servers survive.
+TEST(ServiceTest, OversizedMessageAndDeadlineAreClearErrors) {
+  TempDir dir;
+  LocalCluster cluster(dir, 1, {"--max-message-mb", "1"});
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  // A batch of 1024 signed documents with 2000-byte excerpts is about 2 MB: over the
+  // 1 MiB limit.
+  RunResult big = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                 "--input", kCorpus, "--excerpt-bytes", "2000"});
+  EXPECT_EQ(big.exit_code, 1);
+  EXPECT_NE(big.output.find("gRPC 8"), std::string::npos) << big.output;  // RESOURCE_EXHAUSTED
+  EXPECT_NE(big.output.find("larger than max"), std::string::npos) << big.output;
+  RunResult late = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                  "--out", dir.File("o"), "--deadline", "0.001"});
+  EXPECT_EQ(late.exit_code, 1);
+  EXPECT_NE(late.output.find("gRPC 4"), std::string::npos) << late.output;  // DEADLINE_EXCEEDED
+  RunResult missing = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job",
+                                     "no-such-job", "--out", dir.File("o")});
+  EXPECT_EQ(missing.exit_code, 1);
+  EXPECT_NE(missing.output.find("no job named 'no-such-job'"), std::string::npos) << missing.output;
+  EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
+}
+
+// An optional bearer token is checked on every call.
+TEST(ServiceTest, TokenIsRequiredWhenConfigured) {
+  TempDir dir;
+  WriteFile(dir.File("token"), "s3cret-harbour-token\n");
+  WriteFile(dir.File("wrong"), "not-the-token\n");
+  LocalCluster cluster(dir, 2, {"--token-file", dir.File("token")});
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  auto parts = SplitCorpus(dir, 2);
+  RunResult none = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                  "--input", parts[0]});
+  EXPECT_EQ(none.exit_code, 1);
+  EXPECT_NE(none.output.find("missing bearer token"), std::string::npos) << none.output;
+  RunResult wrong = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                   "--input", parts[0], "--token-file", dir.File("wrong")});
+  EXPECT_EQ(wrong.exit_code, 1);
+  EXPECT_NE(wrong.output.find("wrong bearer token"), std::string::npos) << wrong.output;
+  RunResult good = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                  "--input", parts[0], "--token-file", dir.File("token")});
+  EXPECT_EQ(good.exit_code, 0) << good.output << cluster.Logs();
+  EXPECT_TRUE(cluster.Stop());
+}
+
+// Without credentials a server refuses to listen beyond loopback.
+TEST(ServiceTest, RefusesPlaintextBeyondLoopback) {
+  TempDir dir;
+  RunResult r = RunShingleton({"shard", "--listen", "0.0.0.0:0", "--db", dir.File("s")}, 20);
+  EXPECT_EQ(r.exit_code, 1);
+  EXPECT_NE(r.output.find("without credentials"), std::string::npos) << r.output;
+}
+
+}  // namespace
+}  // namespace shingleton
