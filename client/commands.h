@@ -11,5 +11,6 @@ void AddShardCommand(CLI::App* app, int* rc);
 void AddCoordinatorCommand(CLI::App* app, int* rc);
 void AddIngestCommand(CLI::App* app, int* rc);
 void AddFinalizeCommand(CLI::App* app, int* rc);
+void AddHealthCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

@@ -14,6 +14,8 @@ PACKAGES=(
   libgtest-dev libgmock-dev
   # data the tests check against: Unicode's NormalizationTest.txt, Debian's licenses
   unicode-data bzip2 base-files gzip
+  # the service tests: a Python gRPC client and test certificates
+  python3 python3-grpcio python3-protobuf openssl
 )
 
 missing=()

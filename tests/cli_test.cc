@@ -52,6 +52,25 @@ TEST(CliTest, HelpDocumentsEveryOptionWithItsDefault) {
   }
 }
 
+TEST(CliTest, EverySubcommandHasHelp) {
+  for (const char* sub : {"dedup", "shard", "coordinator", "ingest", "finalize", "health"}) {
+    Result r = Shingleton(std::string(sub) + " --help");
+    EXPECT_EQ(r.exit_code, 0) << sub;
+    EXPECT_NE(r.output.find("Options:"), std::string::npos) << sub << ": " << r.output;
+  }
+  Result shard = Shingleton("shard --help");
+  for (const char* expected : {"--listen TEXT=127.0.0.1:7410", "--db", "--port-file", "--tls-cert",
+                               "--tls-key", "--tls-client-ca", "--token-file", "--allow-insecure",
+                               "--max-message-mb INT=64"}) {
+    EXPECT_NE(shard.output.find(expected), std::string::npos) << "shard --help lacks " << expected;
+  }
+  Result ingest = Shingleton("ingest --help");
+  for (const char* expected : {"--coordinator TEXT=127.0.0.1:7400", "--job", "--deadline FLOAT=60",
+                               "--threshold FLOAT=0.8", "--retries INT=5", "--ca", "--cert", "--key"}) {
+    EXPECT_NE(ingest.output.find(expected), std::string::npos) << "ingest --help lacks " << expected;
+  }
+}
+
 TEST(CliTest, BadRecordFailsWithFileAndLineAndWritesNothing) {
   TempDir dir;
   WriteFile(dir.File("in.jsonl"), JsonLine("a", "one two three") + "{\"id\":\"b\"}\n");
