@@ -12,5 +12,6 @@ void AddCoordinatorCommand(CLI::App* app, int* rc);
 void AddIngestCommand(CLI::App* app, int* rc);
 void AddFinalizeCommand(CLI::App* app, int* rc);
 void AddHealthCommand(CLI::App* app, int* rc);
+void AddQueryCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

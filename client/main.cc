@@ -16,6 +16,7 @@ int main(int argc, char** argv) {
   shingleton::cli::AddCoordinatorCommand(&app, &rc);
   shingleton::cli::AddIngestCommand(&app, &rc);
   shingleton::cli::AddFinalizeCommand(&app, &rc);
+  shingleton::cli::AddQueryCommand(&app, &rc);
   shingleton::cli::AddHealthCommand(&app, &rc);
   CLI11_PARSE(app, argc, argv);
   return rc;

@@ -222,6 +222,7 @@ StatusOr<SketchScheme> IndexStore::ReadScheme(const std::string& path) {
 Status IndexStore::Write(WriteBatchBuilder* batch) {
   rocksdb::WriteOptions wo;
   wo.disableWAL = options_.bulk_load;
+  wo.sync = options_.sync_writes && !options_.bulk_load;
   Status s = FromRocks(db_->Write(wo, batch->batch_.get()), "writing to index " + path_);
   batch->batch_->Clear();
   batch->count_ = 0;
@@ -291,6 +292,18 @@ Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) 
   SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "scanning postings of " + path_));
   if (!members.empty()) SHINGLETON_RETURN_IF_ERROR(emit());
   return Status::Ok();
+}
+
+uint64_t IndexStore::EstimatePostings() const {
+  uint64_t n = 0;
+  db_->GetIntProperty(postings_, "rocksdb.estimate-num-keys", &n);
+  return n;
+}
+
+uint64_t IndexStore::EstimateSignatures() const {
+  uint64_t n = 0;
+  db_->GetIntProperty(signatures_, "rocksdb.estimate-num-keys", &n);
+  return n;
 }
 
 StatusOr<std::vector<uint64_t>> IndexStore::BucketMembers(int band, uint64_t bucket) const {

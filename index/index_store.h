@@ -43,6 +43,9 @@ struct StoreOptions {
   bool bulk_load = false;
   // Open without write access (frozen or inspected indexes). Default: false.
   bool read_only = false;
+  // fsync the WAL before a write returns (an acknowledged service write survives a
+  // machine crash, not only a process crash). Default: false.
+  bool sync_writes = false;
 };
 
 // Collects the writes for many documents into one RocksDB WriteBatch.
@@ -112,6 +115,10 @@ class IndexStore {
   // non-OK status fn returns and passes it on.
   using BucketFn = std::function<Status(int band, uint64_t bucket, const std::vector<uint64_t>&)>;
   Status ForEachBucket(int band, size_t min_size, const BucketFn& fn) const;
+
+  // RocksDB's estimates of the numbers of postings and signatures (cheap, approximate).
+  uint64_t EstimatePostings() const;
+  uint64_t EstimateSignatures() const;
 
   // The keys of one bucket, ascending.
   StatusOr<std::vector<uint64_t>> BucketMembers(int band, uint64_t bucket) const;

@@ -16,6 +16,7 @@
 #include "index/minhash.h"
 #include "index/partition.h"
 #include "index/signer.h"
+#include "server/chunked_writer.h"
 
 namespace shingleton::rpc {
 namespace {
@@ -120,44 +121,6 @@ class IngestReactor : public grpc::ServerBidiReactor<v1::IngestRequest, v1::Inge
   CoordinatorService* service_;
   v1::IngestRequest request_;
   v1::IngestAck ack_;
-};
-
-class FinalizeReactor : public grpc::ServerWriteReactor<v1::FinalizeResponse> {
- public:
-  FinalizeReactor(CoordinatorService* service, v1::FinalizeRequest req, grpc::Status auth) {
-    if (!auth.ok()) {
-      Finish(auth);
-      return;
-    }
-    service->pool().Submit([this, service, req] {
-      auto chunks = service->DoFinalize(req);
-      if (!chunks.ok()) {
-        Finish(ToGrpcStatus(chunks.status()));
-        return;
-      }
-      chunks_ = std::move(chunks).value();
-      Next();
-    });
-  }
-  void OnWriteDone(bool ok) override {
-    if (!ok) {
-      Finish(grpc::Status(grpc::StatusCode::CANCELLED, "client went away"));
-      return;
-    }
-    Next();
-  }
-  void OnDone() override { delete this; }
-
- private:
-  void Next() {
-    if (next_ == chunks_.size()) {
-      Finish(grpc::Status::OK);
-      return;
-    }
-    StartWrite(&chunks_[next_++]);
-  }
-  std::vector<v1::FinalizeResponse> chunks_;
-  size_t next_ = 0;
 };
 
 }  // namespace
@@ -548,7 +511,9 @@ grpc::ServerUnaryReactor* CoordinatorService::Query(grpc::CallbackServerContext*
 
 grpc::ServerWriteReactor<v1::FinalizeResponse>* CoordinatorService::Finalize(
     grpc::CallbackServerContext* ctx, const v1::FinalizeRequest* req) {
-  return new FinalizeReactor(this, *req, CheckToken(ctx, options_.token));
+  v1::FinalizeRequest copy = *req;
+  return new ChunkedWriteReactor<v1::FinalizeResponse>(
+      pool_.get(), CheckToken(ctx, options_.token), [this, copy] { return DoFinalize(copy); });
 }
 
 grpc::ServerUnaryReactor* CoordinatorService::GetJobStats(grpc::CallbackServerContext* ctx,

@@ -6,6 +6,8 @@
 
 #include "index/bucket_scan.h"
 #include "index/minhash.h"
+#include "index/ingest_pipeline.h"
+#include "server/chunked_writer.h"
 #include "server/grpc_common.h"
 
 namespace shingleton::rpc {
@@ -30,43 +32,10 @@ std::vector<uint32_t> UnpackSignature(const std::string& bytes) {
   return sig;
 }
 
-// Streams a finished edge scan in chunks.
-class VerifyReactor : public grpc::ServerWriteReactor<v1::VerifyResponse> {
- public:
-  explicit VerifyReactor(std::vector<v1::VerifyResponse> chunks) : chunks_(std::move(chunks)) {
-    Next();
-  }
-  void OnWriteDone(bool ok) override {
-    if (!ok) {
-      Finish(grpc::Status(grpc::StatusCode::CANCELLED, "client went away"));
-      return;
-    }
-    Next();
-  }
-  void OnDone() override { delete this; }
-
- private:
-  void Next() {
-    if (next_ == chunks_.size()) {
-      Finish(grpc::Status::OK);
-      return;
-    }
-    StartWrite(&chunks_[next_++]);
-  }
-  std::vector<v1::VerifyResponse> chunks_;
-  size_t next_ = 0;
-};
-
-class FailedWrite : public grpc::ServerWriteReactor<v1::VerifyResponse> {
- public:
-  explicit FailedWrite(grpc::Status s) { Finish(std::move(s)); }
-  void OnDone() override { delete this; }
-};
-
 }  // namespace
 
 ShardService::ShardService(std::string db_dir, std::string token, std::string address)
-    : db_dir_(std::move(db_dir)), token_(std::move(token)), address_(std::move(address)) {}
+    : db_dir_(std::move(db_dir)), token_(std::move(token)), address_(std::move(address)), pool_(2) {}
 
 ShardService::~ShardService() = default;
 
@@ -163,47 +132,47 @@ grpc::ServerUnaryReactor* ShardService::Lookup(grpc::CallbackServerContext* ctx,
   return reactor;
 }
 
-grpc::ServerWriteReactor<v1::VerifyResponse>* ShardService::Verify(grpc::CallbackServerContext* ctx,
-                                                                   const v1::VerifyRequest* req) {
-  grpc::Status auth = CheckToken(ctx, token_);
-  if (!auth.ok()) return new FailedWrite(auth);
-  auto store = StoreFor(req->job(), "");
-  if (!store.ok()) return new FailedWrite(ToGrpcStatus(store.status()));
+StatusOr<std::vector<v1::VerifyResponse>> ShardService::DoVerify(const v1::VerifyRequest& req) {
+  SHINGLETON_ASSIGN_OR_RETURN(IndexStore * store, StoreFor(req.job(), ""));
   // Signatures of this shard's documents, for verification inside its buckets.
   std::unordered_map<uint64_t, std::vector<uint32_t>> sigs;
-  Status loaded = store.value()->ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) {
+  SHINGLETON_RETURN_IF_ERROR(store->ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) {
     sigs.emplace(key, std::move(sig));
     return Status::Ok();
-  });
-  if (!loaded.ok()) return new FailedWrite(ToGrpcStatus(loaded));
+  }));
   VerifyOptions vo;
-  vo.threshold = req->threshold();
-  if (req->all_pairs_limit()) vo.all_pairs_limit = req->all_pairs_limit();
-  if (req->max_leaders()) vo.max_leaders = req->max_leaders();
-  auto scan = VerifyAllBuckets(
-      *store.value(), vo,
-      [&sigs](uint64_t key) -> const uint32_t* {
-        auto it = sigs.find(key);
-        return it == sigs.end() ? nullptr : it->second.data();
-      },
-      static_cast<int>(std::max(1u, std::thread::hardware_concurrency())));
-  if (!scan.ok()) return new FailedWrite(ToGrpcStatus(scan.status()));
+  vo.threshold = req.threshold();
+  if (req.all_pairs_limit()) vo.all_pairs_limit = req.all_pairs_limit();
+  if (req.max_leaders()) vo.max_leaders = req.max_leaders();
+  SHINGLETON_ASSIGN_OR_RETURN(
+      EdgeScan scan,
+      VerifyAllBuckets(
+          *store, vo,
+          [&sigs](uint64_t key) -> const uint32_t* {
+            auto it = sigs.find(key);
+            return it == sigs.end() ? nullptr : it->second.data();
+          },
+          ResolveThreads(0)));
   constexpr size_t kChunk = 20000;
-  std::vector<v1::VerifyResponse> chunks;
-  const auto& edges = scan->edges;
-  for (size_t i = 0; i == 0 || i < edges.size(); i += kChunk) {
-    v1::VerifyResponse& chunk = chunks.emplace_back();
-    for (size_t j = i; j < std::min(edges.size(), i + kChunk); ++j) {
-      v1::Edge* e = chunk.add_edges();
-      e->set_a(edges[j].a);
-      e->set_b(edges[j].b);
-      e->set_similarity(edges[j].similarity);
-      e->set_band(edges[j].band);
-    }
+  std::vector<v1::VerifyResponse> chunks(1);
+  for (const Edge& edge : scan.edges) {
+    if (static_cast<size_t>(chunks.back().edges_size()) >= kChunk) chunks.emplace_back();
+    v1::Edge* e = chunks.back().add_edges();
+    e->set_a(edge.a);
+    e->set_b(edge.b);
+    e->set_similarity(edge.similarity);
+    e->set_band(edge.band);
   }
-  chunks.back().set_buckets_checked(scan->buckets_checked);
-  chunks.back().set_comparisons(scan->comparisons);
-  return new VerifyReactor(std::move(chunks));
+  chunks.back().set_buckets_checked(scan.buckets_checked);
+  chunks.back().set_comparisons(scan.comparisons);
+  return chunks;
+}
+
+grpc::ServerWriteReactor<v1::VerifyResponse>* ShardService::Verify(grpc::CallbackServerContext* ctx,
+                                                                   const v1::VerifyRequest* req) {
+  v1::VerifyRequest copy = *req;
+  return new ChunkedWriteReactor<v1::VerifyResponse>(&pool_, CheckToken(ctx, token_),
+                                                     [this, copy] { return DoVerify(copy); });
 }
 
 grpc::ServerUnaryReactor* ShardService::GetStats(grpc::CallbackServerContext* ctx,
@@ -225,6 +194,11 @@ grpc::ServerUnaryReactor* ShardService::GetStats(grpc::CallbackServerContext* ct
     }
   }
   resp->set_disk_bytes(bytes);
+  auto store = StoreFor(req->job(), "");
+  if (store.ok()) {
+    resp->set_postings(store.value()->EstimatePostings());
+    resp->set_signatures(store.value()->EstimateSignatures());
+  }
   reactor->Finish(grpc::Status::OK);
   return reactor;
 }

@@ -2,6 +2,8 @@
 // job under <db>/jobs/<job>, created by the first Write with the job's scheme and
 // refused to any later Write with another scheme.
 //
+// Write and Lookup run inline on gRPC's callback threads (short RocksDB calls);
+// Verify, a full scan, runs on pool_.
 // Thread safety: all RPCs may run concurrently. The map of open stores is guarded
 // by mu_; IndexStore itself is thread-safe.
 #pragma once
@@ -12,6 +14,7 @@
 #include <string>
 
 #include "index/index_store.h"
+#include "server/thread_pool.h"
 #include "shingleton/v1/service.grpc.pb.h"
 
 namespace shingleton::rpc {
@@ -39,12 +42,14 @@ class ShardService final : public v1::IndexShard::CallbackService {
   StatusOr<IndexStore*> StoreFor(const std::string& job, const std::string& scheme_text);
   Status DoWrite(const v1::WriteRequest& req, v1::WriteResponse* resp);
   Status DoLookup(const v1::LookupRequest& req, v1::LookupResponse* resp);
+  StatusOr<std::vector<v1::VerifyResponse>> DoVerify(const v1::VerifyRequest& req);
 
   const std::string db_dir_;
   const std::string token_;
   const std::string address_;
   std::mutex mu_;
   std::map<std::string, std::unique_ptr<IndexStore>> stores_;  // GUARDED_BY(mu_)
+  ThreadPool pool_;  // runs Verify scans off the callback threads
 };
 
 }  // namespace shingleton::rpc

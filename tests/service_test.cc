@@ -50,6 +50,19 @@ class LocalCluster {
   ChildProcess& shard(int i) { return *shards_[i]; }
   void RestartShard(int i) { StartShard(i, shard_addresses_[i]); }
 
+  // Stops the coordinator (SIGTERM) and starts it again on the same address and state.
+  bool RestartCoordinator() {
+    if (coordinator_.Terminate() != 0) return false;
+    std::string list;
+    for (size_t i = 0; i < shard_addresses_.size(); ++i) list += (i ? "," : "") + shard_addresses_[i];
+    std::remove(dir_.File("coord.port").c_str());
+    std::vector<std::string> args = {"coordinator", "--listen", coordinator_address_, "--shards", list,
+                                     "--state", dir_.File("coord"), "--port-file", dir_.File("coord.port")};
+    args.insert(args.end(), server_args_.begin(), server_args_.end());
+    coordinator_.Start(args, dir_.File("coord.log"));
+    return WaitForPortFile(dir_.File("coord.port")) == coordinator_address_;
+  }
+
   // SIGTERM to everything; true if every process drained and exited 0.
   bool Stop() {
     bool clean = coordinator_.Terminate() == 0;
@@ -175,6 +188,33 @@ TEST(ServiceTest, MismatchedParametersAreRefused) {
   EXPECT_NE(other.output.find("exists with other parameters"), std::string::npos) << other.output;
   EXPECT_NE(other.output.find("threshold"), std::string::npos) << other.output;
   EXPECT_TRUE(cluster.Stop());
+}
+
+// The coordinator's state survives a restart between ingest and finalize; the
+// query command answers "is this a near-duplicate, and of what?".
+TEST(ServiceTest, CoordinatorRestartKeepsTheJobAndQueryAnswers) {
+  TempDir dir;
+  LocalCluster cluster(dir, 2);
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  auto parts = SplitCorpus(dir, 2);
+  ASSERT_EQ(RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo", "--input",
+                           parts[0]}).exit_code, 0);
+  ASSERT_TRUE(cluster.RestartCoordinator()) << cluster.Logs();
+  ASSERT_EQ(RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo", "--input",
+                           parts[1]}).exit_code, 0);
+  RunResult fin = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                 "--out", dir.File("service")});
+  ASSERT_EQ(fin.exit_code, 0) << fin.output;
+  EXPECT_EQ(ReadManifests(dir.File("service")).kept_of, EmbeddedDecisions(dir).kept_of);
+
+  const Corpus corpus = ReadJsonlCorpus(kCorpus);
+  WriteFile(dir.File("page.txt"), corpus.texts[17]);
+  RunResult q = RunShingleton({"query", "--coordinator", cluster.coordinator(), "--job", "demo",
+                               "--text-file", dir.File("page.txt"), "--json"});
+  ASSERT_EQ(q.exit_code, 0) << q.output;
+  EXPECT_NE(q.output.find("\"id\":\"" + corpus.ids[17] + "\",\"similarity\":1.0000"), std::string::npos)
+      << q.output;
+  EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
 }
 
 // A shard that is down: the ingest fails with UNAVAILABLE naming the shard and
