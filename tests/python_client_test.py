@@ -69,6 +69,57 @@ service Health {
 """
 
 
+# grpc.reflection.v1alpha as published in grpc/grpc src/proto/grpc/reflection/v1alpha/
+# reflection.proto and doc/server-reflection.md (written from memory of those files;
+# only the messages this test uses need to match on the wire).
+REFLECTION_PROTO = """\
+syntax = "proto3";
+
+package grpc.reflection.v1alpha;
+
+message ServerReflectionRequest {
+  string host = 1;
+  oneof message_request {
+    string file_by_filename = 3;
+    string file_containing_symbol = 4;
+    string list_services = 7;
+  }
+}
+
+message FileDescriptorResponse {
+  repeated bytes file_descriptor_proto = 1;
+}
+
+message ServiceResponse {
+  string name = 1;
+}
+
+message ListServiceResponse {
+  repeated ServiceResponse service = 1;
+}
+
+message ErrorResponse {
+  int32 error_code = 1;
+  string error_message = 2;
+}
+
+message ServerReflectionResponse {
+  string valid_host = 1;
+  ServerReflectionRequest original_request = 2;
+  oneof message_response {
+    FileDescriptorResponse file_descriptor_response = 4;
+    ListServiceResponse list_services_response = 6;
+    ErrorResponse error_response = 7;
+  }
+}
+
+service ServerReflection {
+  rpc ServerReflectionInfo(stream ServerReflectionRequest)
+      returns (stream ServerReflectionResponse);
+}
+"""
+
+
 class Results:
     def __init__(self):
         self.passed = 0
@@ -115,6 +166,12 @@ def generate_stubs(args, tmp):
         [args.protoc, "-I", health_dir, f"--python_out={out}",
          f"--grpc_python_out={out}", plugin, "health.proto"],
         check=True, timeout=60)
+    with open(os.path.join(health_dir, "reflection.proto"), "w", encoding="utf-8") as f:
+        f.write(REFLECTION_PROTO)
+    subprocess.run(
+        [args.protoc, "-I", health_dir, f"--python_out={out}",
+         f"--grpc_python_out={out}", plugin, "reflection.proto"],
+        check=True, timeout=60)
     for pkg in ("shingleton", os.path.join("shingleton", "v1")):
         init = os.path.join(out, pkg, "__init__.py")
         if not os.path.exists(init):
@@ -125,6 +182,8 @@ def generate_stubs(args, tmp):
         "rpc": importlib.import_module("shingleton.v1.service_pb2_grpc"),
         "hpb": importlib.import_module("health_pb2"),
         "hrpc": importlib.import_module("health_pb2_grpc"),
+        "rpb": importlib.import_module("reflection_pb2"),
+        "rrpc": importlib.import_module("reflection_pb2_grpc"),
     }
     return mods
 
@@ -228,6 +287,26 @@ def check_health(m, address):
                   f"Health.Watch('') on {address}: first status {first.status}")
         finally:
             call.cancel()
+
+
+def check_reflection(m, address):
+    """Server reflection lists our services and serves service.proto's descriptor."""
+    from google.protobuf import descriptor_pb2
+    with grpc.insecure_channel(address) as ch:
+        stub = m["rrpc"].ServerReflectionStub(ch)
+        reqs = [m["rpb"].ServerReflectionRequest(list_services=""),
+                m["rpb"].ServerReflectionRequest(
+                    file_containing_symbol="shingleton.v1.Coordinator")]
+        answers = list(stub.ServerReflectionInfo(iter(reqs), timeout=10))
+    check(len(answers) == 2, f"expected 2 reflection answers, got {len(answers)}")
+    names = {s.name for s in answers[0].list_services_response.service}
+    for want in ("shingleton.v1.Coordinator", "grpc.health.v1.Health"):
+        check(want in names, f"{want} not listed by reflection: {sorted(names)}")
+    files = answers[1].file_descriptor_response.file_descriptor_proto
+    check(len(files) >= 1, "no descriptor for shingleton.v1.Coordinator")
+    fd = descriptor_pb2.FileDescriptorProto.FromString(files[0])
+    check(fd.name == "shingleton/v1/service.proto", f"descriptor of {fd.name}")
+    check(any(svc.name == "Coordinator" for svc in fd.service), "no Coordinator in descriptor")
 
 
 def check_candidates_well_formed(resp, what):
@@ -397,6 +476,8 @@ def main():
                     m, docs = state["m"], state["docs"]
                     res.run("health: shard SERVING", check_health, m, state["shard"])
                     res.run("health: coordinator SERVING", check_health, m, state["coord"])
+                    res.run("reflection: services listed, descriptor served",
+                            check_reflection, m, state["coord"])
                     res.run("query: exact text -> own id at 1.0, sorted",
                             check_query_exact, m, state["coord"], docs)
                     res.run("query: 1 word in 200 edited -> original >= 0.8",
