@@ -13,6 +13,7 @@
 #include "client/commands.h"
 #include "client/job_flags.h"
 #include "client/progress.h"
+#include "index/signature_codec.h"
 #include "index/ingest_pipeline.h"
 #include "shingleton/v1/service.grpc.pb.h"
 
@@ -80,13 +81,6 @@ class IngestStream {
   std::unique_ptr<grpc::ClientReaderWriter<v1::IngestRequest, v1::IngestAck>> stream_;
 };
 
-std::string PackSignature(const uint32_t* sig, int k) {
-  std::string out(4 * static_cast<size_t>(k), '\0');
-  for (int i = 0; i < k; ++i) {
-    for (int b = 0; b < 4; ++b) out[4 * i + b] = static_cast<char>(sig[i] >> (8 * b));
-  }
-  return out;
-}
 
 int RunIngest(IngestFlags& f) {
   Status s = ApplyJobFlags(&f.job);

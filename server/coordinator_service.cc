@@ -9,6 +9,7 @@
 #include <map>
 #include <set>
 
+#include "index/signature_codec.h"
 #include "index/clusters.h"
 #include "index/dedup_job.h"
 #include "index/doc_table.h"
@@ -24,30 +25,8 @@ namespace {
 namespace fs = std::filesystem;
 using Clock = std::chrono::steady_clock;
 
-std::string PackSignature(const uint32_t* sig, int k) {
-  std::string out(4 * static_cast<size_t>(k), '\0');
-  for (int i = 0; i < k; ++i) {
-    for (int b = 0; b < 4; ++b) out[4 * i + b] = static_cast<char>(sig[i] >> (8 * b));
-  }
-  return out;
-}
 
-std::vector<uint32_t> UnpackSignature(const std::string& bytes) {
-  std::vector<uint32_t> sig(bytes.size() / 4);
-  for (size_t i = 0; i < sig.size(); ++i) {
-    const auto* p = reinterpret_cast<const unsigned char*>(bytes.data() + 4 * i);
-    sig[i] = p[0] | (p[1] << 8) | (p[2] << 16) | (static_cast<uint32_t>(p[3]) << 24);
-  }
-  return sig;
-}
 
-bool ValidJobName(const std::string& job) {
-  if (job.empty() || job.size() > 128 || job == "." || job == "..") return false;
-  for (char c : job) {
-    if (!(std::isalnum(static_cast<unsigned char>(c)) || c == '-' || c == '_' || c == '.')) return false;
-  }
-  return true;
-}
 
 DocumentMeta MetaOf(const v1::SignedDocument& d) {
   DocumentMeta m;

@@ -4,6 +4,7 @@
 #include <thread>
 #include <unordered_map>
 
+#include "index/signature_codec.h"
 #include "index/bucket_scan.h"
 #include "index/minhash.h"
 #include "index/ingest_pipeline.h"
@@ -15,22 +16,7 @@ namespace {
 
 namespace fs = std::filesystem;
 
-bool ValidJobName(const std::string& job) {
-  if (job.empty() || job.size() > 128) return false;
-  for (char c : job) {
-    if (!(std::isalnum(static_cast<unsigned char>(c)) || c == '-' || c == '_' || c == '.')) return false;
-  }
-  return job != "." && job != "..";
-}
 
-std::vector<uint32_t> UnpackSignature(const std::string& bytes) {
-  std::vector<uint32_t> sig(bytes.size() / 4);
-  for (size_t i = 0; i < sig.size(); ++i) {
-    const auto* p = reinterpret_cast<const unsigned char*>(bytes.data() + 4 * i);
-    sig[i] = p[0] | (p[1] << 8) | (p[2] << 16) | (static_cast<uint32_t>(p[3]) << 24);
-  }
-  return sig;
-}
 
 }  // namespace
 
