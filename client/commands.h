@@ -13,5 +13,6 @@ void AddIngestCommand(CLI::App* app, int* rc);
 void AddFinalizeCommand(CLI::App* app, int* rc);
 void AddHealthCommand(CLI::App* app, int* rc);
 void AddQueryCommand(CLI::App* app, int* rc);
+void AddFreezeCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

@@ -81,6 +81,14 @@ void AddDedupCommand(CLI::App* app, int* rc) {
       ->required();
   cmd->add_option("--index", o.index_path, "Where the RocksDB index is kept [default: OUT/index]");
   AddJobFlags(cmd, &flags->job);
+  cmd->add_option("--reference", o.references,
+                  "A frozen reference generation (made by `shingleton freeze`) to deduplicate "
+                  "against; repeatable, earlier ones win ties. Reference documents always win and "
+                  "are never listed in the manifests")
+      ->check(CLI::ExistingDirectory);
+  cmd->add_flag("--url-revisits", o.url_revisits,
+                "Drop a document whose normalised URL is already in a reference generation (a "
+                "re-crawled page), with reason \"url\"");
   cmd->add_flag("--replace", o.replace, "Replace an existing index and manifests at the outputs");
   cmd->add_flag("-q,--quiet", flags->quiet, "Print nothing on success");
   cmd->add_flag("-v,--verbose", flags->verbose, "Log each phase of the job on stderr");

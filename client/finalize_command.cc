@@ -56,6 +56,7 @@ Status Finalize(FinalizeFlags& f) {
       SHINGLETON_ASSIGN_OR_RETURN(r.cluster, ParseCluster(line.cluster()));
       r.cluster_size = line.cluster_size();
       r.similarity = static_cast<float>(line.similarity());
+      if (!line.kept()) r.reason = line.reason() == "exact" ? DropReason::kExact : DropReason::kNear;
       rows.push_back(std::move(r));
     }
     if (!chunk.summary_json().empty()) summary_json = chunk.summary_json();

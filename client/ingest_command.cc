@@ -137,6 +137,9 @@ int RunIngest(IngestFlags& f) {
       d->set_source(rec.meta.source);
       d->set_excerpt(rec.meta.excerpt);
       d->set_ordinal(ordinal++);
+      d->set_content_hi(rec.meta.content_hi);
+      d->set_content_lo(rec.meta.content_lo);
+      d->set_date(rec.meta.date);
       d->set_signature(PackSignature(batch.sig(i, k), k));
       const uint64_t* b = batch.bucket(i, bands);
       for (int j = 0; j < bands; ++j) d->add_buckets(b[j]);

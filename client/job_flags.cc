@@ -16,6 +16,9 @@ void AddJobFlags(CLI::App* cmd, JobFlags* flags) {
       ->capture_default_str();
   cmd->add_option("--url-field", o.ingest.fields.url, "JSON field holding the URL (optional in records)")
       ->capture_default_str();
+  cmd->add_option("--date-field", o.ingest.fields.date,
+                  "JSON field holding the capture date (ISO 8601), for --keep newest/oldest; "
+                  "WARC input uses WARC-Date");
   cmd->add_option("--shingle", flags->shingle,
                   "Shingle kind: word (k consecutive words) or char (k consecutive characters, "
                   "for scripts written without spaces)")
@@ -34,7 +37,8 @@ void AddJobFlags(CLI::App* cmd, JobFlags* flags) {
                   "Hash seed of shingles and MinHash (decimal or 0x hex) [default: 0x5348494e47]");
   cmd->add_option("--keep", flags->keep,
                   "Which document of a cluster is kept: longest (most text bytes), first (input "
-                  "order), or field:NAME (largest numeric field NAME); ties go to the smallest id")
+                  "order), newest/oldest (capture date), or field:NAME (largest numeric field "
+                  "NAME); ties go to the smallest id")
       ->capture_default_str();
   cmd->add_flag("--skip-bad", o.skip_bad,
                 "Skip and count bad records (malformed JSON, missing id/text, duplicate id, "

@@ -12,6 +12,14 @@
 #include "index/index_store.h"
 #include "index/json_writer.h"
 #include "index/manifest.h"
+#include "index/url_normalizer.h"
+
+#include <oneapi/tbb/global_control.h>
+#include <oneapi/tbb/parallel_for.h>
+#include <oneapi/tbb/task_arena.h>
+
+#include <algorithm>
+#include <unordered_map>
 
 namespace shingleton {
 namespace {
@@ -61,8 +69,25 @@ Status CheckOutputs(const DedupOptions& o, const SketchScheme& scheme) {
 
 // Reads every input into the store and the table. Bad records fail the job, or
 // are skipped and counted with --skip-bad.
+struct ContentKey {
+  uint64_t hi, lo;
+  bool operator==(const ContentKey& o) const { return hi == o.hi && lo == o.lo; }
+};
+struct ContentKeyHash {
+  size_t operator()(const ContentKey& c) const { return c.hi ^ (c.lo * 0x9E3779B97F4A7C15ULL); }
+};
+
+// What ingestion produces besides the store and the table.
+struct IngestOutput {
+  std::vector<Edge> exact_edges;            // identical normalised text, found without LSH
+  std::vector<std::string> normalized_urls;  // per table index, when URL revisits are wanted
+};
+
 Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, DocTable* table,
-              DedupSummary* summary, Clock::time_point start) {
+              DedupSummary* summary, IngestOutput* out, Clock::time_point start) {
+  // The first document with each normalised text; later identical ones join it
+  // directly and write no postings (the exact fast path).
+  std::unordered_map<ContentKey, uint64_t, ContentKeyHash> first_with_content;
   const SketchScheme& scheme = store->scheme();
   const int k = scheme.num_hashes, b = scheme.bands;
   WriteBatchBuilder batch(store);
@@ -92,7 +117,24 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
         continue;
       }
       if (meta.tokens == 0) ++summary->empty_documents;
-      batch.AddDocument(meta, signed_batch.sig(i, k), k, signed_batch.bucket(i, b));
+      if (o.url_revisits) {
+        auto url = meta.url.empty() ? StatusOr<std::string>(std::string()) : NormalizeUrl(meta.url);
+        out->normalized_urls.push_back(url.ok() ? url.value() : std::string());
+      }
+      auto [first, fresh] = first_with_content.emplace(ContentKey{meta.content_hi, meta.content_lo}, meta.key);
+      if (fresh) {
+        batch.AddDocument(meta, signed_batch.sig(i, k), k, signed_batch.bucket(i, b));
+        continue;
+      }
+      batch.AddMeta(meta);
+      batch.AddSignature(meta.key, signed_batch.sig(i, k), k);
+      Edge e;
+      e.a = std::min(meta.key, first->second);
+      e.b = std::max(meta.key, first->second);
+      e.similarity = 1.0f;
+      e.band = Edge::kExactBand;
+      out->exact_edges.push_back(e);
+      ++summary->exact_duplicates;
     }
     summary->text_bytes += signed_batch.text_bytes;
     SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
@@ -184,6 +226,66 @@ void CountDecisions(const std::vector<Decision>& decisions, DedupSummary* summar
   }
 }
 
+namespace {
+
+// The best reference match of every document (in parallel; each is independent).
+StatusOr<std::vector<ReferenceMatch>> MatchReferences(const DedupOptions& o, const ReferenceSet& refs,
+                                                      const DocTable& table, const IngestOutput& in) {
+  std::vector<ReferenceMatch> matches(table.size());
+  std::vector<Status> errors(table.size());
+  tbb::global_control allow(tbb::global_control::max_allowed_parallelism,
+                            std::max(ResolveThreads(o.ingest.threads), 2));
+  tbb::task_arena arena(ResolveThreads(o.ingest.threads));
+  arena.execute([&] {
+    tbb::parallel_for(size_t{0}, table.size(), [&](size_t i) {
+      const std::string empty;
+      const std::string& url = in.normalized_urls.empty() ? empty : in.normalized_urls[i];
+      auto m = refs.Match(table.doc(i), table.signature(i), url, o.threshold, o.url_revisits);
+      if (m.ok()) {
+        matches[i] = std::move(m).value();
+      } else {
+        errors[i] = m.status();
+      }
+    });
+  });
+  for (const Status& s : errors) SHINGLETON_RETURN_IF_ERROR(s);
+  return matches;
+}
+
+// Documents that duplicate a reference take no part in the crawl's own clusters.
+void DropEdgesOfMatched(const DocTable& table, const std::vector<ReferenceMatch>& matches,
+                        std::vector<Edge>* edges) {
+  edges->erase(std::remove_if(edges->begin(), edges->end(),
+                              [&](const Edge& e) {
+                                return matches[table.IndexOf(e.a)].found() ||
+                                       matches[table.IndexOf(e.b)].found();
+                              }),
+               edges->end());
+}
+
+// Reference documents always win: a matched document is dropped in their favour.
+void ApplyReferenceMatches(const ReferenceSet& refs, const std::vector<ReferenceMatch>& matches,
+                           std::vector<Decision>* decisions, std::vector<ManifestRow>* rows) {
+  for (size_t i = 0; i < matches.size(); ++i) {
+    const ReferenceMatch& m = matches[i];
+    if (!m.found()) continue;
+    Decision& d = (*decisions)[i];
+    d.kept_key = d.cluster = m.key;
+    d.for_reference = true;
+    d.similarity = m.similarity;
+    d.cluster_size = 1;
+    ManifestRow& r = (*rows)[i];
+    r.duplicate_of = m.id;
+    r.cluster = m.key;
+    r.cluster_size = 1;
+    r.similarity = m.similarity;
+    r.reason = m.reason;
+    r.reference = refs.record(m.generation).name;
+  }
+}
+
+}  // namespace
+
 uint64_t DedupSummary::skipped_total() const {
   uint64_t n = 0;
   for (uint64_t c : skipped) n += c;
@@ -225,6 +327,11 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   SHINGLETON_ASSIGN_OR_RETURN(summary.scheme, SchemeFromOptions(o));
   SHINGLETON_ASSIGN_OR_RETURN(uint64_t input_bytes, InputBytes(o.ingest.inputs));
   SHINGLETON_RETURN_IF_ERROR(CheckOutputs(o, summary.scheme));
+  std::unique_ptr<ReferenceSet> refs;
+  if (!o.references.empty()) {
+    SHINGLETON_ASSIGN_OR_RETURN(refs, ReferenceSet::Open(o.references, summary.scheme));
+    for (size_t g = 0; g < refs->size(); ++g) summary.reference_names.push_back(refs->record(g).name);
+  }
 
   const std::string index_path = IndexPath(o);
   const std::string building = index_path + ".building-" + std::to_string(::getpid());
@@ -243,7 +350,8 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
     }
   };
   report("reading");
-  SHINGLETON_RETURN_IF_ERROR(Ingest(o, input_bytes, store.get(), &table, &summary, start));
+  IngestOutput ingested;
+  SHINGLETON_RETURN_IF_ERROR(Ingest(o, input_bytes, store.get(), &table, &summary, &ingested, start));
   SHINGLETON_RETURN_IF_ERROR(store->Flush());  // buckets are then scanned from sorted files
   summary.documents = table.size();
   summary.seconds_read = SecondsSince(start);
@@ -251,19 +359,30 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   report("candidates");
   Clock::time_point t = Clock::now();
   SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, *store, table, &summary));
+  edges.insert(edges.end(), ingested.exact_edges.begin(), ingested.exact_edges.end());
+  DeduplicateEdges(&edges);
+  std::vector<ReferenceMatch> matches;
+  if (refs) {
+    report("references");
+    SHINGLETON_ASSIGN_OR_RETURN(matches, MatchReferences(o, *refs, table, ingested));
+    DropEdgesOfMatched(table, matches, &edges);
+  }
   summary.seconds_candidates = SecondsSince(t);
 
   report("clusters");
   t = Clock::now();
   std::vector<Decision> decisions = ResolveClusters(table, edges, o.policy);
+  std::vector<ManifestRow> rows = ManifestRows(table, decisions);
+  if (refs) ApplyReferenceMatches(*refs, matches, &decisions, &rows);
   CountDecisions(decisions, &summary);
+  for (const ManifestRow& r : rows) ++summary.dropped_by_reason[static_cast<size_t>(r.reason)];
   summary.seconds_clusters = SecondsSince(t);
 
   report("writing");
   t = Clock::now();
   SHINGLETON_RETURN_IF_ERROR(PersistDecisions(store.get(), decisions, edges));
   ManifestWriter manifests;
-  SHINGLETON_RETURN_IF_ERROR(manifests.Prepare(o.out_dir, ManifestRows(table, decisions)));
+  SHINGLETON_RETURN_IF_ERROR(manifests.Prepare(o.out_dir, rows));
   summary.seconds_write = SecondsSince(t);
   summary.seconds_total = SecondsSince(start);
   const std::string summary_json = SummaryJson(o, summary);
@@ -315,6 +434,17 @@ std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
   count("clusters", s.clusters);
   count("largest_cluster", s.largest_cluster);
   count("empty_documents", s.empty_documents);
+  count("exact_duplicates", s.exact_duplicates);
+  w.Key("dropped_by_reason");
+  w.BeginObject();
+  for (size_t r = 1; r < s.dropped_by_reason.size(); ++r) {
+    count(DropReasonName(static_cast<DropReason>(r)), s.dropped_by_reason[r]);
+  }
+  w.EndObject();
+  w.Key("references");
+  w.BeginArray();
+  for (const auto& name : s.reference_names) w.String(name);
+  w.EndArray();
   w.Key("skipped");
   w.BeginObject();
   for (size_t i = 1; i < s.skipped.size(); ++i) count(BadRecordName(static_cast<BadRecord>(i)), s.skipped[i]);

@@ -25,6 +25,7 @@
 #include "index/ingest_pipeline.h"
 #include "index/keep_policy.h"
 #include "index/record_parser.h"
+#include "index/reference_set.h"
 #include "index/scheme.h"
 #include "index/status.h"
 
@@ -56,6 +57,12 @@ struct DedupOptions {
   bool replace = false;            // replace an existing index and manifests in out_dir
   size_t all_pairs_limit = 64;     // see VerifyOptions
   size_t max_leaders = 16;
+  // Frozen reference generations (freeze) to deduplicate against; a document that
+  // duplicates a reference document is dropped in its favour. Default: none.
+  std::vector<std::string> references;
+  // Drop a document whose normalised URL is in a reference generation (a re-crawl),
+  // with reason "url". Default: false.
+  bool url_revisits = false;
   ProgressFn progress;             // called from the job's threads, at most ~5 times/s
 };
 
@@ -72,6 +79,9 @@ struct DedupSummary {
   uint64_t clusters = 0;         // clusters with 2 or more documents
   uint64_t largest_cluster = 0;
   uint64_t empty_documents = 0;  // no token after normalisation
+  uint64_t exact_duplicates = 0; // identical normalised text to an earlier document: no LSH work
+  std::array<uint64_t, 6> dropped_by_reason{};  // indexed by DropReason
+  std::vector<std::string> reference_names;
   uint64_t text_bytes = 0;
   std::array<uint64_t, static_cast<size_t>(BadRecord::kCount)> skipped{};  // by kind
   std::vector<BadRecordExample> skipped_examples;  // the first few

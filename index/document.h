@@ -25,6 +25,12 @@ struct DocumentMeta {
   double rank = NAN;        // the keep-policy field's value (field:NAME); NaN if absent
   std::string excerpt;      // first bytes of the raw text, for audit (may be empty)
   std::string source;       // "file:line" of the record
+  std::string date;         // ISO 8601 date of the capture (WARC-Date or a date field); may be empty
+  // XXH3-128 of the normalised text: equal hashes mean identical normalised text.
+  uint64_t content_hi = 0, content_lo = 0;
+  bool SameContent(const DocumentMeta& o) const {
+    return content_hi == o.content_hi && content_lo == o.content_lo;
+  }
 };
 
 // A verified candidate pair: estimated Jaccard >= threshold. a < b (by key).
@@ -32,7 +38,9 @@ struct Edge {
   uint64_t a = 0;
   uint64_t b = 0;
   float similarity = 0;
-  uint16_t band = 0;  // the lowest band in which the pair shared a bucket
+  uint16_t band = 0;  // the lowest band in which the pair shared a bucket; kExactBand:
+                      // identical normalised text, found without LSH
+  static constexpr uint16_t kExactBand = 0xFFFF;
 
   bool operator<(const Edge& o) const { return a != o.a ? a < o.a : b < o.b; }
   bool SamePair(const Edge& o) const { return a == o.a && b == o.b; }
@@ -45,7 +53,8 @@ struct Decision {
   uint64_t kept_key = 0;
   float similarity = 1;      // estimated Jaccard to the kept document
   uint32_t cluster_size = 1;
-  bool kept() const { return key == kept_key; }
+  bool for_reference = false;  // dropped in favour of a reference document (kept_key is its key)
+  bool kept() const { return key == kept_key && !for_reference; }
 };
 
 }  // namespace shingleton

@@ -18,8 +18,16 @@ namespace {
 
 namespace fs = std::filesystem;
 
-constexpr const char* kColumnFamilies[] = {"default", "meta",
-                                           "postings", "signatures", "docs", "decisions", "edges"};
+constexpr const char* kColumnFamilies[] = {"default", "meta",     "postings", "signatures",
+                                           "docs",    "decisions", "edges",    "content", "urls"};
+
+// RocksDB writes an info LOG into the database directory unless given a logger; a
+// read-only (frozen) index must stay byte-identical, so it gets this one.
+class NullLogger : public rocksdb::Logger {
+ public:
+  using rocksdb::Logger::Logv;
+  void Logv(const char*, va_list) override {}
+};
 
 Status FromRocks(const rocksdb::Status& s, const std::string& what) {
   if (s.ok()) return Status::Ok();
@@ -83,6 +91,23 @@ void WriteBatchBuilder::AddPosting(int band, uint64_t bucket, uint64_t key) {
   ++count_;
 }
 
+void WriteBatchBuilder::AddContent(const DocumentMeta& doc) {
+  key_.clear();
+  PutBigEndian64(&key_, doc.content_hi);
+  PutBigEndian64(&key_, doc.content_lo);
+  PutBigEndian64(&key_, doc.key);
+  batch_->Put(store_->content_, key_, rocksdb::Slice());
+  ++count_;
+}
+
+void WriteBatchBuilder::AddUrl(const std::string& normalized_url, uint64_t key) {
+  key_.assign(normalized_url);
+  key_.push_back('\0');
+  PutBigEndian64(&key_, key);
+  batch_->Put(store_->urls_, key_, rocksdb::Slice());
+  ++count_;
+}
+
 void WriteBatchBuilder::AddDecision(const Decision& d) {
   value_.clear();
   PutBigEndian64(&value_, d.cluster);
@@ -91,6 +116,7 @@ void WriteBatchBuilder::AddDecision(const Decision& d) {
   std::memcpy(&bits, &d.similarity, 4);
   PutFixed32(&value_, bits);
   PutVarint(&value_, d.cluster_size);
+  PutVarint(&value_, d.for_reference ? 1 : 0);
   batch_->Put(store_->decisions_, Key64(d.key), value_);
   ++count_;
 }
@@ -128,6 +154,7 @@ StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string
   db_options.error_if_exists = create;
   db_options.create_missing_column_families = create;
   db_options.max_background_jobs = 2;
+  if (options.read_only) db_options.info_log = std::make_shared<NullLogger>();
   // Required by the vector memtable of bulk builds.
   db_options.allow_concurrent_memtable_write = !options.bulk_load;
   std::vector<rocksdb::ColumnFamilyDescriptor> families;
@@ -156,6 +183,8 @@ StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string
   store->docs_ = store->handles_[4];
   store->decisions_ = store->handles_[5];
   store->edges_ = store->handles_[6];
+  store->content_ = store->handles_[7];
+  store->urls_ = store->handles_[8];
   return store;
 }
 
@@ -294,6 +323,45 @@ Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) 
   return Status::Ok();
 }
 
+namespace {
+
+// Doc keys stored as the last 8 bytes of every key under `prefix` in `cf`.
+StatusOr<std::vector<uint64_t>> KeysUnderPrefix(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* cf,
+                                                const std::string& prefix) {
+  std::vector<uint64_t> out;
+  std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(rocksdb::ReadOptions(), cf));
+  for (it->Seek(prefix); it->Valid() && it->key().starts_with(prefix); it->Next()) {
+    if (it->key().size() != prefix.size() + 8) continue;
+    out.push_back(GetBigEndian64(it->key().data() + prefix.size()));
+  }
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "prefix scan"));
+  return out;
+}
+
+}  // namespace
+
+StatusOr<std::vector<uint64_t>> IndexStore::DocumentsWithContent(uint64_t hi, uint64_t lo) const {
+  std::string prefix;
+  PutBigEndian64(&prefix, hi);
+  PutBigEndian64(&prefix, lo);
+  return KeysUnderPrefix(db_.get(), content_, prefix);
+}
+
+StatusOr<std::vector<uint64_t>> IndexStore::DocumentsWithUrl(const std::string& normalized_url) const {
+  std::string prefix = normalized_url;
+  prefix.push_back('\0');
+  return KeysUnderPrefix(db_.get(), urls_, prefix);
+}
+
+Status IndexStore::Compact() {
+  rocksdb::CompactRangeOptions co;
+  co.bottommost_level_compaction = rocksdb::BottommostLevelCompaction::kForce;
+  for (auto* h : handles_) {
+    SHINGLETON_RETURN_IF_ERROR(FromRocks(db_->CompactRange(co, h, nullptr, nullptr), "compacting " + path_));
+  }
+  return Status::Ok();
+}
+
 uint64_t IndexStore::EstimatePostings() const {
   uint64_t n = 0;
   db_->GetIntProperty(postings_, "rocksdb.estimate-num-keys", &n);
@@ -381,6 +449,7 @@ StatusOr<Decision> IndexStore::GetDecision(uint64_t key) const {
   uint32_t bits = dec.Fixed32();
   std::memcpy(&d.similarity, &bits, 4);
   d.cluster_size = static_cast<uint32_t>(dec.Varint());
+  d.for_reference = (dec.Varint() & 1) != 0;
   if (!dec.ok()) return Status::Corruption("bad decision record");
   return d;
 }
@@ -416,6 +485,12 @@ std::string IndexStore::EncodeDocument(const DocumentMeta& doc) {
   PutLengthPrefixed(&v, doc.url);
   PutLengthPrefixed(&v, doc.source);
   PutLengthPrefixed(&v, doc.excerpt);
+  PutLengthPrefixed(&v, doc.date);
+  PutDouble(&v, 0);  // reserved
+  std::string hash;
+  PutBigEndian64(&hash, doc.content_hi);
+  PutBigEndian64(&hash, doc.content_lo);
+  PutLengthPrefixed(&v, hash);
   return v;
 }
 
@@ -431,7 +506,12 @@ StatusOr<DocumentMeta> IndexStore::DecodeDocument(uint64_t key, std::string_view
   doc.url = std::string(d.LengthPrefixed());
   doc.source = std::string(d.LengthPrefixed());
   doc.excerpt = std::string(d.LengthPrefixed());
-  if (!d.ok()) return Status::Corruption("bad document record");
+  doc.date = std::string(d.LengthPrefixed());
+  d.Double();
+  std::string_view hash = d.LengthPrefixed();
+  if (!d.ok() || hash.size() != 16) return Status::Corruption("bad document record");
+  doc.content_hi = GetBigEndian64(hash.data());
+  doc.content_lo = GetBigEndian64(hash.data() + 8);
   return doc;
 }
 

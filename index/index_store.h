@@ -1,6 +1,6 @@
 // IndexStore: the banded LSH index persisted in RocksDB.
 //
-// Layout (kLayoutVersion = 1), one column family per kind of data:
+// Layout (kLayoutVersion = 2), one column family per kind of data:
 //   meta        "layout" -> decimal layout version; "scheme" -> SketchScheme::Serialize();
 //               "job" -> the last job's summary JSON
 //   postings    band (u16 BE) | bucket (u64 BE) | doc key (u64 BE) -> ""   (one key per
@@ -9,6 +9,8 @@
 //   docs        doc key (u64 BE) -> DocumentMeta (see EncodeDocument)
 //   decisions   doc key (u64 BE) -> cluster, kept key, similarity, cluster size
 //   edges       key a (u64 BE) | key b (u64 BE) -> similarity (f32 as u32 bits), band
+//   content     XXH3-128 of the normalised text (hi, lo: u64 BE each) | doc key -> ""
+//   urls        normalised URL bytes | 0x00 | doc key (u64 BE) -> ""
 // Open() checks the layout version and the scheme and refuses mismatches with a
 // message that names both. Every rocksdb::Status is converted here.
 //
@@ -34,7 +36,7 @@ class WriteBatch;
 
 namespace shingleton {
 
-inline constexpr int kLayoutVersion = 1;
+inline constexpr int kLayoutVersion = 2;
 
 struct StoreOptions {
   // Bulk-build mode: writes skip the WAL; durability comes from Flush() before the
@@ -65,6 +67,9 @@ class WriteBatchBuilder {
   void AddMeta(const DocumentMeta& doc);
   void AddSignature(uint64_t key, const uint32_t* sig, int k);
   void AddPosting(int band, uint64_t bucket, uint64_t key);
+  // Exact-content and URL lookups (reference generations use them).
+  void AddContent(const DocumentMeta& doc);
+  void AddUrl(const std::string& normalized_url, uint64_t key);
   void AddDecision(const Decision& d);
   void AddEdge(const Edge& e);
   // Key-value entries in the batch.
@@ -120,6 +125,12 @@ class IndexStore {
   uint64_t EstimatePostings() const;
   uint64_t EstimateSignatures() const;
 
+  // Keys of documents with exactly this normalised content / normalised URL.
+  StatusOr<std::vector<uint64_t>> DocumentsWithContent(uint64_t hi, uint64_t lo) const;
+  StatusOr<std::vector<uint64_t>> DocumentsWithUrl(const std::string& normalized_url) const;
+  // Compacts every column family into the fewest files (used when freezing).
+  Status Compact();
+
   // The keys of one bucket, ascending.
   StatusOr<std::vector<uint64_t>> BucketMembers(int band, uint64_t bucket) const;
   // Calls fn for every stored document (key order) / signature (key order).
@@ -154,6 +165,8 @@ class IndexStore {
   rocksdb::ColumnFamilyHandle* docs_ = nullptr;
   rocksdb::ColumnFamilyHandle* decisions_ = nullptr;
   rocksdb::ColumnFamilyHandle* edges_ = nullptr;
+  rocksdb::ColumnFamilyHandle* content_ = nullptr;
+  rocksdb::ColumnFamilyHandle* urls_ = nullptr;
 };
 
 }  // namespace shingleton

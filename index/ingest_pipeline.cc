@@ -120,9 +120,13 @@ std::unique_ptr<SignedBatch> SignBatch(const RawBatch& raw, const IngestOptions&
     rec.meta.key = DocKey(parsed.id);
     rec.meta.url = std::string(parsed.url);
     rec.meta.rank = parsed.rank;
+    rec.meta.date = std::string(parsed.date);
     rec.meta.text_bytes = parsed.text.size();
     rec.meta.excerpt = ExcerptOf(parsed.text, options.excerpt_bytes);
-    rec.meta.tokens = w->signer.Sign(parsed.text, &out->sigs[i * k], &out->buckets[i * b]);
+    uint64_t content[2];
+    rec.meta.tokens = w->signer.Sign(parsed.text, &out->sigs[i * k], &out->buckets[i * b], content);
+    rec.meta.content_hi = content[0];
+    rec.meta.content_lo = content[1];
   }
   return out;
 }

@@ -8,6 +8,10 @@ StatusOr<KeepPolicy> KeepPolicy::Parse(const std::string& text) {
   KeepPolicy p;
   if (text == "longest") {
     p.kind_ = Kind::kLongest;
+  } else if (text == "newest") {
+    p.kind_ = Kind::kNewest;
+  } else if (text == "oldest") {
+    p.kind_ = Kind::kOldest;
   } else if (text == "first") {
     p.kind_ = Kind::kFirst;
   } else if (text.rfind("field:", 0) == 0 && text.size() > 6) {
@@ -15,7 +19,7 @@ StatusOr<KeepPolicy> KeepPolicy::Parse(const std::string& text) {
     p.field_ = text.substr(6);
   } else {
     return Status::InvalidArgument("unknown keep policy '" + text +
-                                   "' (expected longest, first or field:NAME)");
+                                   "' (expected longest, first, newest, oldest or field:NAME)");
   }
   return p;
 }
@@ -25,6 +29,8 @@ std::string KeepPolicy::Name() const {
     case Kind::kLongest: return "longest";
     case Kind::kFirst: return "first";
     case Kind::kField: return "field:" + field_;
+    case Kind::kNewest: return "newest";
+    case Kind::kOldest: return "oldest";
   }
   return "?";
 }
@@ -43,6 +49,12 @@ bool KeepPolicy::Prefer(const DocumentMeta& a, const DocumentMeta& b) const {
       if (ha && a.rank != b.rank) return a.rank > b.rank;
       break;
     }
+    case Kind::kNewest:
+    case Kind::kOldest:
+      // ISO 8601 timestamps of one format order as strings do.
+      if (a.date.empty() != b.date.empty()) return !a.date.empty();
+      if (a.date != b.date) return kind_ == Kind::kNewest ? a.date > b.date : a.date < b.date;
+      break;
   }
   return a.id < b.id;
 }

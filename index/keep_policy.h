@@ -4,6 +4,8 @@
 //   first       the earliest in input order (files in the order given, then lines)
 //   field:NAME  the largest numeric value of metadata field NAME; documents without
 //               it rank below all that have it
+//   newest      the latest capture date (WARC-Date, or --date-field); undated last
+//   oldest      the earliest capture date; undated last
 // Remaining ties go to the smallest id (bytewise), so `longest` and `field:NAME`
 // do not depend on input order.
 //
@@ -19,7 +21,7 @@ namespace shingleton {
 
 class KeepPolicy {
  public:
-  enum class Kind { kLongest, kFirst, kField };
+  enum class Kind { kLongest, kFirst, kField, kNewest, kOldest };
 
   KeepPolicy() = default;
   static StatusOr<KeepPolicy> Parse(const std::string& text);

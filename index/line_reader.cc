@@ -1,8 +1,5 @@
 #include "index/line_reader.h"
 
-#include <zlib.h>
-
-#include <cerrno>
 #include <cstring>
 
 namespace shingleton {
@@ -10,47 +7,37 @@ namespace {
 constexpr size_t kChunk = 1 << 20;
 }
 
-LineReader::~LineReader() {
-  if (file_) gzclose(file_);
-}
+LineReader::~LineReader() = default;
 
 Status LineReader::Open(const std::string& path) {
   path_ = path;
-  file_ = gzopen(path.c_str(), "rb");
-  if (!file_) return Status::IoError("cannot open " + path + ": " + std::strerror(errno));
-  gzbuffer(file_, 256 * 1024);
+  auto stream = ByteStream::Open(path);
+  if (!stream.ok()) return stream.status();
+  stream_ = std::move(stream).value();
   return Status::Ok();
 }
 
-uint64_t LineReader::raw_offset() const {
-  if (!file_) return 0;
-  z_off_t off = gzoffset(file_);
-  return off < 0 ? 0 : static_cast<uint64_t>(off);
+uint64_t LineReader::raw_offset() const { return stream_ ? stream_->raw_offset() : 0; }
+
+Compression LineReader::compression() const {
+  return stream_ ? stream_->compression() : Compression::kNone;
 }
 
+// Moves the unread bytes to the front and reads one chunk after them.
 bool LineReader::Fill() {
   if (eof_) return false;
-  buffer_.erase(0, pos_);
-  pos_ = 0;
-  const size_t old = buffer_.size();
-  buffer_.resize(old + kChunk);
-  int n = gzread(file_, buffer_.data() + old, kChunk);
-  if (n < 0) {
-    int err = 0;
-    const char* msg = gzerror(file_, &err);
-    status_ = Status::BadInput(path_ + ": read error near byte " + std::to_string(raw_offset()) +
-                               ": " + (msg ? msg : "unknown"));
-    buffer_.resize(old);
-    return false;
+  if (pos_ > 0) {
+    std::memmove(buffer_.data(), buffer_.data() + pos_, end_ - pos_);
+    end_ -= pos_;
+    pos_ = 0;
   }
-  buffer_.resize(old + static_cast<size_t>(n));
+  if (buffer_.size() < end_ + kChunk) buffer_.resize(end_ + kChunk);
+  const size_t n = stream_->Read(buffer_.data() + end_, kChunk);
+  end_ += n;
   if (n == 0) {
     eof_ = true;
-    int err = 0;
-    const char* msg = gzerror(file_, &err);
-    if (err != Z_OK && err != Z_STREAM_END) {
-      status_ = Status::BadInput(path_ + ": " + (msg ? msg : "read error") + " at byte " +
-                                 std::to_string(raw_offset()) + " (truncated or corrupt gzip?)");
+    if (!stream_->status().ok()) {
+      status_ = stream_->status();
       return false;
     }
   }
@@ -58,11 +45,12 @@ bool LineReader::Fill() {
 }
 
 bool LineReader::Next(std::string_view* line) {
-  if (!status_.ok() || !file_) return false;
+  if (!status_.ok() || !stream_) return false;
+  size_t scanned = 0;  // bytes after pos_ already searched for '\n'
   for (;;) {
     const char* begin = buffer_.data() + pos_;
-    const size_t avail = buffer_.size() - pos_;
-    const void* nl = std::memchr(begin, '\n', avail);
+    const size_t avail = end_ - pos_;
+    const void* nl = std::memchr(begin + scanned, '\n', avail - scanned);
     if (nl || (eof_ && avail > 0)) {
       size_t len = nl ? static_cast<size_t>(static_cast<const char*>(nl) - begin) : avail;
       pos_ += nl ? len + 1 : len;
@@ -71,6 +59,7 @@ bool LineReader::Next(std::string_view* line) {
       ++line_number_;
       return true;
     }
+    scanned = avail;
     if (eof_ || !Fill()) return false;
   }
 }

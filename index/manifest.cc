@@ -19,7 +19,11 @@ std::vector<ManifestRow> ManifestRows(const DocTable& docs, const std::vector<De
     const Decision& d = decisions[i];
     ManifestRow& r = rows[i];
     r.id = docs.doc(i).id;
-    if (!d.kept()) r.duplicate_of = docs.doc(static_cast<size_t>(docs.IndexOf(d.kept_key))).id;
+    if (!d.kept()) {
+      const DocumentMeta& kept = docs.doc(static_cast<size_t>(docs.IndexOf(d.kept_key)));
+      r.duplicate_of = kept.id;
+      r.reason = docs.doc(i).SameContent(kept) ? DropReason::kExact : DropReason::kNear;
+    }
     r.cluster = d.cluster;
     r.cluster_size = d.cluster_size;
     r.similarity = d.similarity;
@@ -51,6 +55,12 @@ Status ManifestWriter::Prepare(const std::string& dir, const std::vector<Manifes
       w.String(ClusterLabel(r.cluster));
       w.Key("similarity");
       w.Double(r.similarity, 4);
+      w.Key("reason");
+      w.String(DropReasonName(r.reason));
+      if (!r.reference.empty()) {
+        w.Key("reference");
+        w.String(r.reference);
+      }
     }
     w.EndObject();
     std::string& buf = r.kept() ? keep_buf : drop_buf;

@@ -2,7 +2,12 @@
 //
 //   keep.jsonl  {"id": ..., "cluster": "<16 hex>", "cluster_size": N}
 //   drop.jsonl  {"id": ..., "duplicate_of": <kept id>, "cluster": "<16 hex>",
-//                "similarity": <estimated Jaccard to the kept document>}
+//                "similarity": <estimated Jaccard to the kept document>,
+//                "reason": "exact" | "near" | "url" | "reference-exact" | "reference-near",
+//                "reference": <generation name, only for reference drops>}
+// exact: identical normalised text; near: verified LSH similarity; url: the same
+// normalised URL as a reference document (a re-crawl); reference-*: duplicates of
+// a document of a frozen reference generation, which always wins.
 // The cluster label is the kept document's 64-bit key in hex: stable across runs
 // and independent of shard, thread and input order. Every document appears in
 // exactly one of the two files.
@@ -16,6 +21,7 @@
 
 #include "index/atomic_file.h"
 #include "index/doc_table.h"
+#include "index/reference_set.h"
 
 namespace shingleton {
 
@@ -28,6 +34,8 @@ struct ManifestRow {
   uint64_t cluster = 0;      // the kept document's key
   uint32_t cluster_size = 1;
   float similarity = 1;
+  DropReason reason = DropReason::kNone;  // why it was dropped (kNone when kept)
+  std::string reference;                  // the generation it duplicates, if any
   bool kept() const { return duplicate_of.empty(); }
 };
 

@@ -66,6 +66,13 @@ Status RecordParser::Parse(const char* data, size_t len, size_t capacity, Parsed
       return Fail(BadRecord::kWrongType, kind, "field \"" + fields_.url + "\" is not a string");
     }
   }
+  out->date = {};
+  simdjson::dom::element date;
+  if (!fields_.date.empty() && !obj[fields_.date].get(date) && !date.is_null()) {
+    if (date.get(out->date)) {
+      return Fail(BadRecord::kWrongType, kind, "field \"" + fields_.date + "\" is not a string");
+    }
+  }
   out->rank = NAN;
   simdjson::dom::element rank;
   if (!fields_.rank.empty() && !obj[fields_.rank].get(rank) && !rank.is_null()) {

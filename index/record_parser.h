@@ -26,6 +26,7 @@ struct FieldNames {
   std::string text = "text";
   std::string url = "url";
   std::string rank;  // empty: not read
+  std::string date;  // capture date (ISO 8601 string) for keep policies newest/oldest; empty: not read
 };
 
 enum class BadRecord { kNone = 0, kMalformedJson, kMissingField, kWrongType, kInvalidUtf8,
@@ -34,7 +35,7 @@ const char* BadRecordName(BadRecord kind);
 
 struct ParsedRecord {
   // Views into the parser's buffers: valid until the next Parse().
-  std::string_view id, text, url;
+  std::string_view id, text, url, date;
   double rank = NAN;
 };
 

@@ -1,5 +1,7 @@
 #include "index/signer.h"
 
+#include <xxhash.h>
+
 #include "index/bands.h"
 #include "index/shingler.h"
 
@@ -8,8 +10,13 @@ namespace shingleton {
 Signer::Signer(const SketchScheme& scheme)
     : scheme_(scheme), hasher_(scheme.num_hashes, scheme.seed) {}
 
-size_t Signer::Sign(std::string_view text, uint32_t* sig, uint64_t* buckets) {
+size_t Signer::Sign(std::string_view text, uint32_t* sig, uint64_t* buckets, uint64_t* content) {
   normalizer_.Normalize(text, &normalized_);
+  if (content) {
+    const XXH128_hash_t h = XXH3_128bits(normalized_.text.data(), normalized_.text.size());
+    content[0] = h.high64;
+    content[1] = h.low64;
+  }
   ShingleHashes(normalized_, scheme_.shingle_kind, scheme_.shingle_size, scheme_.seed, &shingles_);
   hasher_.Sign(shingles_.data(), shingles_.size(), sig);
   for (int band = 0; band < scheme_.bands; ++band) {

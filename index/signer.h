@@ -20,8 +20,10 @@ class Signer {
   explicit Signer(const SketchScheme& scheme);
 
   // REQUIRES: text is valid UTF-8. Writes scheme.num_hashes values to sig and
-  // scheme.bands buckets to buckets; returns the number of tokens.
-  size_t Sign(std::string_view text, uint32_t* sig, uint64_t* buckets);
+  // scheme.bands buckets to buckets; returns the number of tokens. When `content`
+  // is given, it receives XXH3-128 of the normalised text {high, low}.
+  size_t Sign(std::string_view text, uint32_t* sig, uint64_t* buckets,
+              uint64_t* content = nullptr);
 
   const SketchScheme& scheme() const { return scheme_; }
 

@@ -39,6 +39,9 @@ DocumentMeta MetaOf(const v1::SignedDocument& d) {
   m.source = d.source();
   m.excerpt = d.excerpt();
   m.ordinal = d.ordinal();
+  m.content_hi = d.content_hi();
+  m.content_lo = d.content_lo();
+  m.date = d.date();
   return m;
 }
 
@@ -441,6 +444,7 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
     line->set_cluster(ClusterLabel(r.cluster));
     line->set_cluster_size(r.cluster_size);
     line->set_similarity(r.similarity);
+    line->set_reason(DropReasonName(r.reason));
   }
   chunks.back().set_summary_json(summary_json);
   spdlog::info("coordinator: job {} finalized: {} documents, {} kept, {} edges", job->name,

@@ -130,7 +130,9 @@ TEST(KeepPolicyTest, ParsesKnownNamesOnly) {
   EXPECT_EQ(KeepPolicy::Parse("first").value().Name(), "first");
   EXPECT_EQ(KeepPolicy::Parse("field:crawl_rank").value().field(), "crawl_rank");
   EXPECT_FALSE(KeepPolicy::Parse("field:").ok());
-  EXPECT_FALSE(KeepPolicy::Parse("newest").ok());
+  EXPECT_EQ(KeepPolicy::Parse("newest").value().Name(), "newest");
+  EXPECT_EQ(KeepPolicy::Parse("oldest").value().Name(), "oldest");
+  EXPECT_FALSE(KeepPolicy::Parse("biggest").ok());
 }
 
 }  // namespace

@@ -126,7 +126,8 @@ TEST(IndexStoreTest, OpenChecksSchemeAndLayout) {
   {
     rocksdb::DBOptions opts;
     std::vector<rocksdb::ColumnFamilyDescriptor> families;
-    for (const char* n : {"default", "meta", "postings", "signatures", "docs", "decisions", "edges"}) {
+    for (const char* n : {"default", "meta", "postings", "signatures", "docs", "decisions", "edges",
+                          "content", "urls"}) {
       families.emplace_back(n, rocksdb::ColumnFamilyOptions());
     }
     std::vector<rocksdb::ColumnFamilyHandle*> handles;

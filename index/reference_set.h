@@ -1,0 +1,90 @@
+// Frozen reference generations: the documents kept by earlier jobs, which a new
+// crawl is deduplicated against and which never change underneath it.
+//
+// On disk a generation is a directory:
+//   REF/db/               a compact, read-only IndexStore (kept documents only:
+//                         metadata, signatures, postings, content and URL lookups)
+//   REF/generation.json   {"format": "shingleton-generation/1", "name", "scheme",
+//                          "documents", "created", "source", "checksum"}
+// `checksum` is XXH3-128 over REF/db's files (names, sizes and bytes, in name order),
+// so anyone can check that a generation is unchanged. Generations are opened
+// read-only, without an info log, so no job alters a byte of them.
+//
+// Matching a new document (ReferenceSet::Match), in order: its normalised URL in a
+// generation (a re-crawl; only when asked), identical normalised text (content
+// hash), then LSH candidates verified on the signature (>= threshold). The best
+// match wins: highest similarity, then the earlier generation on the command line,
+// then the smaller id.
+//
+// Thread safety: a ReferenceSet is immutable once open; Match() may run concurrently.
+#pragma once
+
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "index/document.h"
+#include "index/index_store.h"
+#include "index/scheme.h"
+
+namespace shingleton {
+
+enum class DropReason { kNone, kExact, kNear, kUrl, kReferenceExact, kReferenceNear };
+const char* DropReasonName(DropReason r);
+
+struct GenerationRecord {
+  std::string name;
+  std::string scheme;
+  uint64_t documents = 0;
+  std::string created;   // UTC, ISO 8601
+  std::string source;    // the job's index it was frozen from
+  std::string checksum;  // 32 hex digits
+};
+
+StatusOr<GenerationRecord> ReadGenerationRecord(const std::string& ref_dir);
+// XXH3-128 (hex) over the regular files of `dir`: names, sizes and bytes in name order.
+StatusOr<std::string> ChecksumDirectory(const std::string& dir);
+
+struct FreezeOptions {
+  std::string index_path;  // the finished job's index
+  std::string out_dir;     // the new generation (must not exist)
+  std::string name;        // default: the out_dir's last component
+  bool all_documents = false;  // include dropped documents too (default: kept only)
+};
+// Writes a new generation; returns its record.
+StatusOr<GenerationRecord> FreezeGeneration(const FreezeOptions& options);
+
+struct ReferenceMatch {
+  int generation = -1;  // -1: no match
+  uint64_t key = 0;
+  std::string id;
+  float similarity = 0;
+  DropReason reason = DropReason::kNone;
+  bool found() const { return generation >= 0; }
+};
+
+class ReferenceSet {
+ public:
+  // Opens every generation; each must have the job's scheme (Mismatch otherwise).
+  static StatusOr<std::unique_ptr<ReferenceSet>> Open(const std::vector<std::string>& dirs,
+                                                      const SketchScheme& scheme);
+
+  // The best match of a document. `normalized_url` may be empty; URL revisits are
+  // only looked for when `url_revisits`.
+  StatusOr<ReferenceMatch> Match(const DocumentMeta& doc, const uint32_t* sig,
+                                 const std::string& normalized_url, double threshold,
+                                 bool url_revisits) const;
+
+  size_t size() const { return generations_.size(); }
+  const GenerationRecord& record(int g) const { return generations_[g].record; }
+
+ private:
+  struct Generation {
+    GenerationRecord record;
+    std::unique_ptr<IndexStore> store;
+  };
+  SketchScheme scheme_;
+  std::vector<Generation> generations_;
+};
+
+}  // namespace shingleton
