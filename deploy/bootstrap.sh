@@ -13,7 +13,7 @@ PACKAGES=(
   libgrpc++-dev protobuf-compiler-grpc libprotobuf-dev protobuf-compiler
   libgtest-dev libgmock-dev
   # data the tests check against: Unicode's NormalizationTest.txt, Debian's licenses
-  unicode-data bzip2 base-files gzip
+  unicode-data bzip2 base-files gzip zstd
   # the service tests: a Python gRPC client and test certificates
   python3 python3-grpcio python3-protobuf openssl
 )
