@@ -8,6 +8,7 @@
 #include "client/job_flags.h"
 #include "client/progress.h"
 #include "index/manifest.h"
+#include "index/reference_set.h"
 #include "shingleton/v1/service.grpc.pb.h"
 
 namespace shingleton::cli {
@@ -56,7 +57,8 @@ Status Finalize(FinalizeFlags& f) {
       SHINGLETON_ASSIGN_OR_RETURN(r.cluster, ParseCluster(line.cluster()));
       r.cluster_size = line.cluster_size();
       r.similarity = static_cast<float>(line.similarity());
-      if (!line.kept()) r.reason = line.reason() == "exact" ? DropReason::kExact : DropReason::kNear;
+      if (!line.kept()) r.reason = ParseDropReason(line.reason());
+      r.reference = line.reference();
       rows.push_back(std::move(r));
     }
     if (!chunk.summary_json().empty()) summary_json = chunk.summary_json();

@@ -26,6 +26,8 @@ struct CoordinatorFlags {
   std::string state;
   std::string shard_ca;
   std::string shard_cert, shard_key;
+  std::vector<std::string> references;
+  bool url_revisits = false;
 };
 
 int Fail(const char* command, const Status& s) {
@@ -72,6 +74,8 @@ int RunCoordinator(CoordinatorFlags& f) {
   o.shard_security.cert_file = f.shard_cert;
   o.shard_security.key_file = f.shard_key;
   o.shard_security.token = f.server.security.token;
+  o.references = f.references;
+  o.url_revisits = f.url_revisits;
   auto service = rpc::CoordinatorService::Create(o);
   if (!service.ok()) return Fail("coordinator", service.status());
   rpc::CoordinatorService* svc = service.value().get();
@@ -105,6 +109,12 @@ void AddCoordinatorCommand(CLI::App* app, int* rc) {
   cmd->add_option("--shard-ca", f->shard_ca, "PEM CA of the shards' certificates (TLS to shards)");
   cmd->add_option("--shard-cert", f->shard_cert, "PEM client certificate presented to shards");
   cmd->add_option("--shard-key", f->shard_key, "PEM client key presented to shards");
+  cmd->add_option("--reference", f->references,
+                  "A frozen reference generation (shingleton freeze) every job is deduplicated "
+                  "against at finalize; repeatable, earlier ones win ties")
+      ->check(CLI::ExistingDirectory);
+  cmd->add_flag("--url-revisits", f->url_revisits,
+                "Drop documents whose normalised URL is in a reference generation (reason \"url\")");
   cmd->callback([f, rc] { *rc = RunCoordinator(*f); });
 }
 

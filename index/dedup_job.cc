@@ -12,6 +12,7 @@
 #include "index/index_store.h"
 #include "index/json_writer.h"
 #include "index/manifest.h"
+#include "index/reference_resolution.h"
 #include "index/url_normalizer.h"
 
 #include <oneapi/tbb/global_control.h>
@@ -226,66 +227,6 @@ void CountDecisions(const std::vector<Decision>& decisions, DedupSummary* summar
   }
 }
 
-namespace {
-
-// The best reference match of every document (in parallel; each is independent).
-StatusOr<std::vector<ReferenceMatch>> MatchReferences(const DedupOptions& o, const ReferenceSet& refs,
-                                                      const DocTable& table, const IngestOutput& in) {
-  std::vector<ReferenceMatch> matches(table.size());
-  std::vector<Status> errors(table.size());
-  tbb::global_control allow(tbb::global_control::max_allowed_parallelism,
-                            std::max(ResolveThreads(o.ingest.threads), 2));
-  tbb::task_arena arena(ResolveThreads(o.ingest.threads));
-  arena.execute([&] {
-    tbb::parallel_for(size_t{0}, table.size(), [&](size_t i) {
-      const std::string empty;
-      const std::string& url = in.normalized_urls.empty() ? empty : in.normalized_urls[i];
-      auto m = refs.Match(table.doc(i), table.signature(i), url, o.threshold, o.url_revisits);
-      if (m.ok()) {
-        matches[i] = std::move(m).value();
-      } else {
-        errors[i] = m.status();
-      }
-    });
-  });
-  for (const Status& s : errors) SHINGLETON_RETURN_IF_ERROR(s);
-  return matches;
-}
-
-// Documents that duplicate a reference take no part in the crawl's own clusters.
-void DropEdgesOfMatched(const DocTable& table, const std::vector<ReferenceMatch>& matches,
-                        std::vector<Edge>* edges) {
-  edges->erase(std::remove_if(edges->begin(), edges->end(),
-                              [&](const Edge& e) {
-                                return matches[table.IndexOf(e.a)].found() ||
-                                       matches[table.IndexOf(e.b)].found();
-                              }),
-               edges->end());
-}
-
-// Reference documents always win: a matched document is dropped in their favour.
-void ApplyReferenceMatches(const ReferenceSet& refs, const std::vector<ReferenceMatch>& matches,
-                           std::vector<Decision>* decisions, std::vector<ManifestRow>* rows) {
-  for (size_t i = 0; i < matches.size(); ++i) {
-    const ReferenceMatch& m = matches[i];
-    if (!m.found()) continue;
-    Decision& d = (*decisions)[i];
-    d.kept_key = d.cluster = m.key;
-    d.for_reference = true;
-    d.similarity = m.similarity;
-    d.cluster_size = 1;
-    ManifestRow& r = (*rows)[i];
-    r.duplicate_of = m.id;
-    r.cluster = m.key;
-    r.cluster_size = 1;
-    r.similarity = m.similarity;
-    r.reason = m.reason;
-    r.reference = refs.record(m.generation).name;
-  }
-}
-
-}  // namespace
-
 uint64_t DedupSummary::skipped_total() const {
   uint64_t n = 0;
   for (uint64_t c : skipped) n += c;
@@ -364,7 +305,9 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   std::vector<ReferenceMatch> matches;
   if (refs) {
     report("references");
-    SHINGLETON_ASSIGN_OR_RETURN(matches, MatchReferences(o, *refs, table, ingested));
+    SHINGLETON_ASSIGN_OR_RETURN(
+        matches, MatchReferences(*refs, table, ingested.normalized_urls, o.threshold, o.url_revisits,
+                                 ResolveThreads(o.ingest.threads)));
     DropEdgesOfMatched(table, matches, &edges);
   }
   summary.seconds_candidates = SecondsSince(t);

@@ -1,1 +1,532 @@
-// placeholder: being written
+#include "index/html_text.h"
+
+#include <gumbo.h>
+
+#include <cstring>
+#include <vector>
+
+namespace shingleton {
+namespace {
+
+bool IsHtmlSpace(char c) {
+  // WHATWG Infra: ASCII whitespace is U+0009 TAB, U+000A LF, U+000C FF, U+000D CR, U+0020 SPACE.
+  return c == ' ' || c == '\t' || c == '\n' || c == '\f' || c == '\r';
+}
+
+char AsciiLower(char c) { return (c >= 'A' && c <= 'Z') ? static_cast<char>(c + 32) : c; }
+bool IsAsciiAlpha(char c) { return (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z'); }
+
+bool EqualsIgnoreCase(std::string_view a, std::string_view b) {
+  if (a.size() != b.size()) return false;
+  for (size_t i = 0; i < a.size(); ++i) {
+    if (AsciiLower(a[i]) != AsciiLower(b[i])) return false;
+  }
+  return true;
+}
+
+bool OneOf(std::string_view name, std::initializer_list<std::string_view> names) {
+  for (std::string_view n : names) {
+    if (n == name) return true;
+  }
+  return false;
+}
+
+// Collects text into lines: collapses whitespace, turns breaks into '\n', never
+// emits empty lines or leading/trailing whitespace.
+class TextBuilder {
+ public:
+  void Text(std::string_view s, bool preformatted) {
+    size_t i = 0;
+    while (i < s.size()) {
+      if (IsHtmlSpace(s[i])) {
+        if (preformatted && s[i] == '\n') {
+          newline_ = true;
+        } else {
+          space_ = true;
+        }
+        ++i;
+        continue;
+      }
+      size_t j = i;
+      while (j < s.size() && !IsHtmlSpace(s[j])) ++j;
+      if (!out_.empty()) {
+        if (newline_) {
+          out_.push_back('\n');
+        } else if (space_) {
+          out_.push_back(' ');
+        }
+      }
+      newline_ = space_ = false;
+      out_.append(s.data() + i, j - i);
+      i = j;
+    }
+  }
+  void Break() { newline_ = true; }
+  void Space() { space_ = true; }
+  std::string Take() { return std::move(out_); }
+
+ private:
+  std::string out_;
+  bool space_ = false;
+  bool newline_ = false;
+};
+
+// The tag name of an element gumbo does not know (GUMBO_TAG_UNKNOWN), lowercased.
+std::string UnknownTagName(const GumboElement& el) {
+  GumboStringPiece piece = el.original_tag;
+  if (!piece.data || piece.length < 2 || piece.data[0] != '<') return "";
+  gumbo_tag_from_original_text(&piece);
+  std::string name(piece.data, piece.length);
+  for (char& c : name) c = AsciiLower(c);
+  return name;
+}
+
+// WHATWG HTML, Rendering §15.3.1 (hidden elements: display: none), plus noscript
+// (hidden when scripting is enabled), iframe (its contents are fallback text that
+// is never rendered) and elements with the `hidden` attribute.
+bool IsHidden(const GumboNode* node) {
+  if (node->type == GUMBO_NODE_TEMPLATE) return true;
+  const GumboElement& el = node->v.element;
+  switch (el.tag) {
+    case GUMBO_TAG_HEAD:
+    case GUMBO_TAG_TITLE:
+    case GUMBO_TAG_SCRIPT:
+    case GUMBO_TAG_STYLE:
+    case GUMBO_TAG_NOSCRIPT:
+    case GUMBO_TAG_TEMPLATE:
+    case GUMBO_TAG_AREA:
+    case GUMBO_TAG_BASE:
+    case GUMBO_TAG_BASEFONT:
+    case GUMBO_TAG_DATALIST:
+    case GUMBO_TAG_LINK:
+    case GUMBO_TAG_META:
+    case GUMBO_TAG_NOEMBED:
+    case GUMBO_TAG_NOFRAMES:
+    case GUMBO_TAG_PARAM:
+    case GUMBO_TAG_RP:
+    case GUMBO_TAG_IFRAME:
+      return true;
+    case GUMBO_TAG_UNKNOWN:
+      // dialog:not([open]) { display: none; } (gumbo 0.10 predates <dialog>).
+      if (UnknownTagName(el) == "dialog" && !gumbo_get_attribute(&el.attributes, "open")) {
+        return true;
+      }
+      break;
+    default:
+      break;
+  }
+  return gumbo_get_attribute(&el.attributes, "hidden") != nullptr;
+}
+
+enum class Layout { kInline, kBlock, kCell, kBreak };
+
+// WHATWG HTML, Rendering §15.3.3-15.3.8 and §15.5: elements whose display is
+// block, list-item, table, table-row(-group), table-caption or similar.
+Layout LayoutOf(const GumboElement& el) {
+  switch (el.tag) {
+    case GUMBO_TAG_BR:
+    case GUMBO_TAG_HR:
+      return Layout::kBreak;
+    case GUMBO_TAG_TD:
+    case GUMBO_TAG_TH:
+      return Layout::kCell;
+    case GUMBO_TAG_HTML:
+    case GUMBO_TAG_BODY:
+    case GUMBO_TAG_ADDRESS:
+    case GUMBO_TAG_ARTICLE:
+    case GUMBO_TAG_ASIDE:
+    case GUMBO_TAG_BLOCKQUOTE:
+    case GUMBO_TAG_CAPTION:
+    case GUMBO_TAG_CENTER:
+    case GUMBO_TAG_DD:
+    case GUMBO_TAG_DETAILS:
+    case GUMBO_TAG_DIR:
+    case GUMBO_TAG_DIV:
+    case GUMBO_TAG_DL:
+    case GUMBO_TAG_DT:
+    case GUMBO_TAG_FIELDSET:
+    case GUMBO_TAG_FIGCAPTION:
+    case GUMBO_TAG_FIGURE:
+    case GUMBO_TAG_FOOTER:
+    case GUMBO_TAG_FORM:
+    case GUMBO_TAG_FRAMESET:
+    case GUMBO_TAG_FRAME:
+    case GUMBO_TAG_H1:
+    case GUMBO_TAG_H2:
+    case GUMBO_TAG_H3:
+    case GUMBO_TAG_H4:
+    case GUMBO_TAG_H5:
+    case GUMBO_TAG_H6:
+    case GUMBO_TAG_HEADER:
+    case GUMBO_TAG_HGROUP:
+    case GUMBO_TAG_LEGEND:
+    case GUMBO_TAG_LI:
+    case GUMBO_TAG_LISTING:
+    case GUMBO_TAG_MAIN:
+    case GUMBO_TAG_MENU:
+    case GUMBO_TAG_NAV:
+    case GUMBO_TAG_OL:
+    case GUMBO_TAG_OPTGROUP:
+    case GUMBO_TAG_OPTION:
+    case GUMBO_TAG_P:
+    case GUMBO_TAG_PLAINTEXT:
+    case GUMBO_TAG_PRE:
+    case GUMBO_TAG_SECTION:
+    case GUMBO_TAG_SUMMARY:
+    case GUMBO_TAG_TABLE:
+    case GUMBO_TAG_TBODY:
+    case GUMBO_TAG_TFOOT:
+    case GUMBO_TAG_THEAD:
+    case GUMBO_TAG_TR:
+    case GUMBO_TAG_UL:
+    case GUMBO_TAG_XMP:
+    case GUMBO_TAG_TEXTAREA:
+    case GUMBO_TAG_SELECT:
+      return Layout::kBlock;
+    case GUMBO_TAG_UNKNOWN: {
+      const std::string name = UnknownTagName(el);
+      if (name == "dialog" || name == "search") return Layout::kBlock;
+      return Layout::kInline;
+    }
+    default:
+      return Layout::kInline;
+  }
+}
+
+bool IsPreformatted(GumboTag tag) {
+  return tag == GUMBO_TAG_PRE || tag == GUMBO_TAG_TEXTAREA || tag == GUMBO_TAG_LISTING ||
+         tag == GUMBO_TAG_PLAINTEXT || tag == GUMBO_TAG_XMP;
+}
+
+const GumboVector* ChildrenOf(const GumboNode* node) {
+  switch (node->type) {
+    case GUMBO_NODE_DOCUMENT: return &node->v.document.children;
+    case GUMBO_NODE_ELEMENT:
+    case GUMBO_NODE_TEMPLATE: return &node->v.element.children;
+    default: return nullptr;
+  }
+}
+
+// Walks the tree without recursion.
+std::string TreeText(const GumboNode* root) {
+  TextBuilder text;
+  struct Frame {
+    const GumboNode* node;
+    unsigned next;
+  };
+  std::vector<Frame> stack;
+  stack.push_back({root, 0});
+  int preformatted = 0;
+  while (!stack.empty()) {
+    Frame& top = stack.back();
+    const GumboVector* children = ChildrenOf(top.node);
+    if (children && top.next < children->length) {
+      const GumboNode* child = static_cast<const GumboNode*>(children->data[top.next++]);
+      switch (child->type) {
+        case GUMBO_NODE_TEXT:
+        case GUMBO_NODE_CDATA:
+        case GUMBO_NODE_WHITESPACE:
+          text.Text(child->v.text.text ? std::string_view(child->v.text.text) : std::string_view(),
+                    preformatted > 0);
+          break;
+        case GUMBO_NODE_ELEMENT:
+        case GUMBO_NODE_TEMPLATE: {
+          if (IsHidden(child)) break;
+          const GumboElement& el = child->v.element;
+          switch (LayoutOf(el)) {
+            case Layout::kBreak: text.Break(); break;
+            case Layout::kBlock: text.Break(); break;
+            case Layout::kCell: text.Space(); break;
+            case Layout::kInline: break;
+          }
+          if (IsPreformatted(el.tag)) ++preformatted;
+          stack.push_back({child, 0});  // invalidates `top`
+          break;
+        }
+        default:  // comments, documents
+          break;
+      }
+      continue;
+    }
+    if (top.node->type == GUMBO_NODE_ELEMENT || top.node->type == GUMBO_NODE_TEMPLATE) {
+      const GumboElement& el = top.node->v.element;
+      switch (LayoutOf(el)) {
+        case Layout::kBreak:
+        case Layout::kBlock: text.Break(); break;
+        case Layout::kCell: text.Space(); break;
+        case Layout::kInline: break;
+      }
+      if (IsPreformatted(el.tag)) --preformatted;
+    }
+    stack.pop_back();
+  }
+  return text.Take();
+}
+
+// ---------------------------------------------------------------------------
+// A light tokenizer after the WHATWG tokenization states (data, tag open, end
+// tag open, comments, RCDATA/RAWTEXT/PLAINTEXT elements), approximate but total:
+// it only decides whether a document is too deep for the tree builder, and
+// flattens such documents.
+
+struct TagToken {
+  std::string name;  // lowercased
+  bool end = false;
+  bool self_closing = false;
+};
+
+// WHATWG HTML §13.1.2: void elements (and the obsolete ones the parser treats alike).
+bool IsVoid(std::string_view n) {
+  return OneOf(n, {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta",
+                   "source", "track", "wbr", "basefont", "bgsound", "frame", "keygen", "param",
+                   "image", "isindex", "menuitem"});
+}
+
+// Elements whose contents the tokenizer reads as text up to their end tag
+// (WHATWG HTML §13.2.5: RCDATA, RAWTEXT and script data states).
+bool IsRawText(std::string_view n) {
+  return OneOf(n, {"script", "style", "textarea", "title", "xmp", "iframe", "noembed",
+                   "noframes", "noscript"});
+}
+
+// Calls on_text(view) for text (with a lone '<' passed as "<") and
+// on_tag(TagToken, raw_text_contents) for tags; for raw-text elements the second
+// argument is their contents (up to the matching end tag).
+template <typename OnText, typename OnTag>
+void Tokenize(std::string_view h, OnText on_text, OnTag on_tag) {
+  const size_t n = h.size();
+  size_t i = 0;
+  TagToken tag;
+  while (i < n) {
+    size_t lt = h.find('<', i);
+    if (lt == std::string_view::npos) lt = n;
+    if (lt > i && !on_text(h.substr(i, lt - i))) return;
+    if (lt >= n) return;
+    const size_t j = lt + 1;
+    if (j < n && h[j] == '!') {
+      if (h.compare(j, 3, "!--") == 0) {  // comment, up to "-->" (or the end)
+        const size_t e = h.find("-->", lt + 2);
+        i = e == std::string_view::npos ? n : e + 3;
+      } else {  // doctype, CDATA, bogus comment: up to '>'
+        const size_t e = h.find('>', j);
+        i = e == std::string_view::npos ? n : e + 1;
+      }
+      continue;
+    }
+    if (j < n && h[j] == '?') {  // bogus comment
+      const size_t e = h.find('>', j);
+      i = e == std::string_view::npos ? n : e + 1;
+      continue;
+    }
+    const bool end = j < n && h[j] == '/';
+    const size_t name_at = end ? j + 1 : j;
+    if (name_at >= n || !IsAsciiAlpha(h[name_at])) {
+      if (end && name_at < n && h[name_at] == '>') {  // "</>" is dropped
+        i = name_at + 1;
+        continue;
+      }
+      if (!on_text("<")) return;
+      i = j;
+      continue;
+    }
+    size_t k = name_at;
+    while (k < n && !IsHtmlSpace(h[k]) && h[k] != '/' && h[k] != '>') ++k;
+    tag.name.assign(h.data() + name_at, k - name_at);
+    for (char& c : tag.name) c = AsciiLower(c);
+    tag.end = end;
+    // Attributes: up to '>' outside a quoted value.
+    while (k < n && h[k] != '>') {
+      if (h[k] == '=') {
+        ++k;
+        while (k < n && IsHtmlSpace(h[k])) ++k;
+        if (k < n && (h[k] == '"' || h[k] == '\'')) {
+          const size_t q = h.find(h[k], k + 1);
+          k = q == std::string_view::npos ? n : q + 1;
+          continue;
+        }
+        continue;
+      }
+      ++k;
+    }
+    if (k >= n) return;  // EOF in a tag: the tag is dropped
+    tag.self_closing = k > name_at && h[k - 1] == '/';
+    i = k + 1;
+    std::string_view contents;
+    if (!end && IsRawText(tag.name)) {
+      // Contents end at "</name" followed by whitespace, '/' or '>'.
+      size_t e = i;
+      for (;;) {
+        e = h.find("</", e);
+        if (e == std::string_view::npos) {
+          e = n;
+          break;
+        }
+        const size_t after = e + 2 + tag.name.size();
+        if (after <= n && EqualsIgnoreCase(h.substr(e + 2, tag.name.size()), tag.name) &&
+            (after == n || IsHtmlSpace(h[after]) || h[after] == '/' || h[after] == '>')) {
+          break;
+        }
+        e += 2;
+      }
+      contents = h.substr(i, e - i);
+      i = e;
+    } else if (!end && tag.name == "plaintext") {
+      contents = h.substr(i);
+      i = n;
+    }
+    if (!on_tag(tag, contents)) return;
+  }
+}
+
+// WHATWG HTML §13.2.4.2: the element types that bound "has an element in scope".
+bool IsScopeMarker(std::string_view n) {
+  return OneOf(n, {"applet", "caption", "html", "table", "td", "th", "marquee", "object",
+                   "template"});
+}
+
+// Elements whose end tag may be omitted, closed by a following sibling of the same
+// kind (WHATWG HTML §13.1.2.4 "Optional tags").
+bool ClosedBySibling(std::string_view n) {
+  return OneOf(n, {"p", "li", "dt", "dd", "option", "optgroup", "tr", "td", "th", "thead",
+                   "tbody", "tfoot", "rb", "rt", "rtc", "rp", "colgroup", "caption"});
+}
+
+// Estimates whether the open-element stack of the tree builder would grow beyond
+// `limit`: a stack of open names, end tags popping to their match within scope.
+bool TooDeep(std::string_view html, size_t limit) {
+  std::vector<std::string> stack;
+  int foreign = 0;  // svg/math elements open: there "/>" closes an element
+  bool too_deep = false;
+  Tokenize(
+      html, [](std::string_view) { return true; },
+      [&](const TagToken& tag, std::string_view) {
+        const std::string& name = tag.name;
+        if (name == "html" || name == "head" || name == "body") return true;
+        if (tag.end) {
+          for (size_t d = stack.size(); d-- > 0;) {
+            if (stack[d] == name) {
+              for (size_t p = d; p < stack.size(); ++p) {
+                if (stack[p] == "svg" || stack[p] == "math") --foreign;
+              }
+              stack.resize(d);
+              break;
+            }
+            if (IsScopeMarker(stack[d])) break;
+          }
+          return true;
+        }
+        if (IsVoid(name) || IsRawText(name) || name == "plaintext") return true;
+        if (tag.self_closing && foreign > 0) return true;
+        if (ClosedBySibling(name) && !stack.empty() && stack.back() == name) return true;
+        stack.push_back(name);
+        if (name == "svg" || name == "math") ++foreign;
+        if (stack.size() > limit) {
+          too_deep = true;
+          return false;
+        }
+        return true;
+      });
+  return too_deep;
+}
+
+bool FlatBlock(std::string_view n) {
+  return OneOf(n, {"address", "article", "aside", "blockquote", "br", "caption", "center", "dd",
+                   "details", "dialog", "dir", "div", "dl", "dt", "fieldset", "figcaption",
+                   "figure", "footer", "form", "frameset", "frame", "h1", "h2", "h3", "h4", "h5",
+                   "h6", "header", "hgroup", "hr", "legend", "li", "listing", "main", "menu",
+                   "nav", "ol", "optgroup", "option", "p", "plaintext", "pre", "search",
+                   "section", "select", "summary", "table", "tbody", "textarea", "tfoot",
+                   "thead", "tr", "ul", "xmp"});
+}
+
+// The document without its structure: text (character references still
+// encoded), "<br>" for block boundaries, " " between table cells.
+std::string Flatten(std::string_view html) {
+  std::string out;
+  out.reserve(html.size());
+  int skip = 0;  // template elements open
+  int pre = 0;   // pre and listing elements open: newlines are line breaks
+  auto append_escaped = [&out](std::string_view s) {
+    for (char c : s) {
+      if (c == '<') {
+        out += "&lt;";
+      } else if (c == '&') {
+        out += "&amp;";
+      } else if (c == '\n') {
+        out += "<br>";
+      } else {
+        out.push_back(c);
+      }
+    }
+  };
+  Tokenize(
+      html,
+      [&](std::string_view s) {
+        if (skip > 0) return true;
+        if (s == "<") {
+          out += "&lt;";
+        } else if (pre > 0) {
+          for (char c : s) {
+            if (c == '\n') {
+              out += "<br>";
+            } else {
+              out.push_back(c);
+            }
+          }
+        } else {
+          out.append(s.data(), s.size());
+        }
+        return true;
+      },
+      [&](const TagToken& tag, std::string_view contents) {
+        if (tag.name == "template") {
+          skip += tag.end ? (skip > 0 ? -1 : 0) : 1;
+          return true;
+        }
+        if (skip > 0) return true;
+        if (tag.name == "pre" || tag.name == "listing") {
+          pre += tag.end ? (pre > 0 ? -1 : 0) : 1;
+        }
+        if (tag.name == "td" || tag.name == "th") {
+          out.push_back(' ');
+        } else if (FlatBlock(tag.name)) {
+          out += "<br>";
+        }
+        if (!tag.end) {
+          if (tag.name == "textarea") {  // RCDATA: references are decoded
+            for (char c : contents) {
+              if (c == '<') {
+                out += "&lt;";
+              } else if (c == '\n') {
+                out += "<br>";
+              } else {
+                out.push_back(c);
+              }
+            }
+          } else if (tag.name == "xmp" || tag.name == "plaintext") {  // RAWTEXT: literal
+            append_escaped(contents);
+          }
+        }
+        return true;
+      });
+  return out;
+}
+
+std::string ParseAndWalk(std::string_view html) {
+  GumboOptions options = kGumboDefaultOptions;
+  options.max_errors = 0;  // see the header: the error list can cost gigabytes
+  GumboOutput* output = gumbo_parse_with_options(&options, html.data(), html.size());
+  if (!output) return "";
+  std::string text = TreeText(output->document);
+  gumbo_destroy_output(&options, output);
+  return text;
+}
+
+}  // namespace
+
+std::string HtmlToText(std::string_view html) {
+  if (TooDeep(html, kMaxHtmlDepth)) return ParseAndWalk(Flatten(html));
+  return ParseAndWalk(html);
+}
+
+}  // namespace shingleton

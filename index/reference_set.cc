@@ -58,6 +58,14 @@ const char* DropReasonName(DropReason r) {
   return "?";
 }
 
+DropReason ParseDropReason(const std::string& name) {
+  for (DropReason r : {DropReason::kExact, DropReason::kNear, DropReason::kUrl,
+                       DropReason::kReferenceExact, DropReason::kReferenceNear}) {
+    if (name == DropReasonName(r)) return r;
+  }
+  return DropReason::kNone;
+}
+
 StatusOr<std::string> ChecksumDirectory(const std::string& dir) {
   std::vector<fs::path> files;
   std::error_code ec;

@@ -31,6 +31,8 @@ namespace shingleton {
 
 enum class DropReason { kNone, kExact, kNear, kUrl, kReferenceExact, kReferenceNear };
 const char* DropReasonName(DropReason r);
+// The inverse of DropReasonName; kNone for unknown names.
+DropReason ParseDropReason(const std::string& name);
 
 struct GenerationRecord {
   std::string name;

@@ -16,7 +16,10 @@
 #include "index/manifest.h"
 #include "index/minhash.h"
 #include "index/partition.h"
+#include "index/ingest_pipeline.h"
+#include "index/reference_resolution.h"
 #include "index/signer.h"
+#include "index/url_normalizer.h"
 #include "server/chunked_writer.h"
 
 namespace shingleton::rpc {
@@ -411,21 +414,41 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
 
   // 2. Documents, clusters, decisions: the same library calls as the embedded job.
   DocTable table(job->scheme.num_hashes);
+  std::vector<std::string> normalized_urls;
   SHINGLETON_RETURN_IF_ERROR(job->store->ForEachDocument([&](DocumentMeta meta) -> Status {
     SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> sig, job->store->GetSignature(meta.key));
     if (meta.tokens == 0) ++summary.empty_documents;
+    if (options_.url_revisits) {
+      auto url = meta.url.empty() ? StatusOr<std::string>(std::string()) : NormalizeUrl(meta.url);
+      normalized_urls.push_back(url.ok() ? url.value() : std::string());
+    }
     return table.Add(std::move(meta), sig.data());
   }));
   summary.records_read = summary.documents = table.size();
-  const std::vector<Decision> decisions = ResolveClusters(table, edges, job->policy);
+
+  // 3. Frozen references win over the crawl: the same steps as the embedded job.
+  std::unique_ptr<ReferenceSet> refs;
+  std::vector<ReferenceMatch> matches;
+  if (!options_.references.empty()) {
+    SHINGLETON_ASSIGN_OR_RETURN(refs, ReferenceSet::Open(options_.references, job->scheme));
+    for (size_t g = 0; g < refs->size(); ++g) summary.reference_names.push_back(refs->record(g).name);
+    SHINGLETON_ASSIGN_OR_RETURN(matches, MatchReferences(*refs, table, normalized_urls,
+                                                         job->params.threshold(), options_.url_revisits,
+                                                         ResolveThreads(0)));
+    DropEdgesOfMatched(table, matches, &edges);
+  }
+  std::vector<Decision> decisions = ResolveClusters(table, edges, job->policy);
+  std::vector<ManifestRow> rows = ManifestRows(table, decisions);
+  if (refs) ApplyReferenceMatches(*refs, matches, &decisions, &rows);
   CountDecisions(decisions, &summary);
+  for (const ManifestRow& r : rows) ++summary.dropped_by_reason[static_cast<size_t>(r.reason)];
   WriteBatchBuilder batch(job->store.get());
   for (const Decision& d : decisions) batch.AddDecision(d);
   for (const Edge& e : edges) batch.AddEdge(e);
   SHINGLETON_RETURN_IF_ERROR(job->store->Write(&batch));
   summary.seconds_total = std::chrono::duration<double>(Clock::now() - start).count();
 
-  // 3. The answer, in chunks that stay far below the message limit.
+  // 4. The answer, in chunks that stay far below the message limit.
   DedupOptions described;
   described.ingest.inputs = {"service job " + job->name + " (" + std::to_string(job->batches) +
                              " batches since the coordinator started)"};
@@ -435,7 +458,7 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   const std::string summary_json = SummaryJson(described, summary);
   SHINGLETON_RETURN_IF_ERROR(job->store->PutJobRecord(summary_json));
   std::vector<v1::FinalizeResponse> chunks(1);
-  for (const ManifestRow& r : ManifestRows(table, decisions)) {
+  for (const ManifestRow& r : rows) {
     if (chunks.back().lines_size() >= 5000) chunks.emplace_back();
     v1::ManifestLine* line = chunks.back().add_lines();
     line->set_id(r.id);
@@ -445,6 +468,7 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
     line->set_cluster_size(r.cluster_size);
     line->set_similarity(r.similarity);
     line->set_reason(DropReasonName(r.reason));
+    line->set_reference(r.reference);
   }
   chunks.back().set_summary_json(summary_json);
   spdlog::info("coordinator: job {} finalized: {} documents, {} kept, {} edges", job->name,

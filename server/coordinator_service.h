@@ -37,6 +37,10 @@ struct CoordinatorOptions {
   std::string token;                // required of callers when non-empty
   int max_message_mb = kDefaultMaxMessageMb;
   double shard_deadline_s = 120;    // per call to a shard
+  // Frozen reference generations every job is deduplicated against at Finalize
+  // (read locally by the coordinator), and whether URL revisits are dropped.
+  std::vector<std::string> references;
+  bool url_revisits = false;
 };
 
 class CoordinatorService final : public v1::Coordinator::CallbackService {

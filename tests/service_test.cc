@@ -217,6 +217,44 @@ TEST(ServiceTest, CoordinatorRestartKeepsTheJobAndQueryAnswers) {
   EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
 }
 
+// Against a frozen reference generation, the service decides exactly as the
+// embedded job with --reference does.
+TEST(ServiceTest, ReferenceGenerationsGiveTheEmbeddedDecisions) {
+  TempDir dir;
+  auto parts = SplitCorpus(dir, 2);
+  DedupOptions old;
+  old.ingest.inputs = {parts[0]};
+  old.out_dir = dir.File("old");
+  ASSERT_TRUE(RunDedupJob(old).ok());
+  RunResult frozen = RunShingleton({"freeze", "--from", dir.File("old"), "--to", dir.File("ref"),
+                                    "--name", "oct"});
+  ASSERT_EQ(frozen.exit_code, 0) << frozen.output;
+  DedupOptions emb;
+  emb.ingest.inputs = {parts[1]};
+  emb.out_dir = dir.File("embedded-ref");
+  emb.references = {dir.File("ref")};
+  ASSERT_TRUE(RunDedupJob(emb).ok());
+
+  LocalCluster cluster(dir, 3, {}, {"--reference", dir.File("ref")});
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  ASSERT_EQ(RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "nov", "--input",
+                           parts[1]}).exit_code, 0);
+  RunResult fin = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "nov",
+                                 "--out", dir.File("service")});
+  ASSERT_EQ(fin.exit_code, 0) << fin.output << cluster.Logs();
+  EXPECT_EQ(ReadManifests(dir.File("service")).kept_of, ReadManifests(dir.File("embedded-ref")).kept_of);
+  auto sorted_lines = [](const std::string& path) {
+    std::vector<std::string> lines;
+    std::ifstream in(path);
+    for (std::string l; std::getline(in, l);) lines.push_back(l);
+    std::sort(lines.begin(), lines.end());
+    return lines;
+  };
+  // Reasons and generation names too: the drop lines are identical.
+  EXPECT_EQ(sorted_lines(dir.File("service/drop.jsonl")), sorted_lines(dir.File("embedded-ref/drop.jsonl")));
+  EXPECT_TRUE(cluster.Stop());
+}
+
 // A shard that is down: the ingest fails with UNAVAILABLE naming the shard and
 // nothing is acknowledged for that batch; once the shard is back, ingesting again
 // completes the job and the decisions equal the embedded job's.
