@@ -88,6 +88,11 @@ std::string SummaryTable(const DedupSummary& s, const std::string& out_dir) {
   if (s.skipped_total() > 0) row("skipped (bad)", WithCommas(s.skipped_total()), "see summary.json");
   row("kept", WithCommas(s.kept), pct(s.kept));
   row("dropped", WithCommas(s.dropped), pct(s.dropped));
+  for (size_t r = 1; r < s.dropped_by_reason.size(); ++r) {
+    if (s.dropped_by_reason[r] == 0) continue;
+    const std::string label = std::string("  ") + DropReasonName(static_cast<DropReason>(r));
+    row(label.c_str(), WithCommas(s.dropped_by_reason[r]));
+  }
   row("clusters (2+)", WithCommas(s.clusters));
   row("largest cluster", WithCommas(s.largest_cluster));
   if (s.empty_documents > 0) row("empty documents", WithCommas(s.empty_documents));
