@@ -126,6 +126,7 @@ int RunIngest(IngestFlags& f) {
         ++skipped;
         continue;
       }
+      if (!rec.skipped.empty()) continue;  // a WARC record without a document
       v1::SignedDocument* d = req.add_documents();
       d->set_id(rec.meta.id);
       d->set_key(rec.meta.key);

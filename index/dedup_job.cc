@@ -108,6 +108,11 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
         skip(rec.bad, rec.error);
         continue;
       }
+      if (!rec.skipped.empty()) {
+        ++summary->records_without_document[rec.skipped];
+        continue;
+      }
+      if (rec.truncated) ++summary->truncated_records;
       DocumentMeta meta = rec.meta;
       meta.ordinal = table->size();
       Status added = table->Add(meta, signed_batch.sig(i, k));
@@ -378,6 +383,11 @@ std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
   count("largest_cluster", s.largest_cluster);
   count("empty_documents", s.empty_documents);
   count("exact_duplicates", s.exact_duplicates);
+  count("truncated_records", s.truncated_records);
+  w.Key("records_without_document");
+  w.BeginObject();
+  for (const auto& [reason, n] : s.records_without_document) count(reason.c_str(), n);
+  w.EndObject();
   w.Key("dropped_by_reason");
   w.BeginObject();
   for (size_t r = 1; r < s.dropped_by_reason.size(); ++r) {

@@ -18,6 +18,7 @@
 #include <array>
 #include <cstdint>
 #include <functional>
+#include <map>
 #include <string>
 #include <vector>
 
@@ -82,6 +83,8 @@ struct DedupSummary {
   uint64_t exact_duplicates = 0; // identical normalised text to an earlier document: no LSH work
   std::array<uint64_t, 6> dropped_by_reason{};  // indexed by DropReason
   std::vector<std::string> reference_names;
+  std::map<std::string, uint64_t> records_without_document;  // WARC records skipped, by reason
+  uint64_t truncated_records = 0;                             // WARC-Truncated or cut bodies
   uint64_t text_bytes = 0;
   std::array<uint64_t, static_cast<size_t>(BadRecord::kCount)> skipped{};  // by kind
   std::vector<BadRecordExample> skipped_examples;  // the first few

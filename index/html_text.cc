@@ -384,47 +384,216 @@ bool IsScopeMarker(std::string_view n) {
                    "template"});
 }
 
-// Elements whose end tag may be omitted, closed by a following sibling of the same
-// kind (WHATWG HTML §13.1.2.4 "Optional tags").
-bool ClosedBySibling(std::string_view n) {
-  return OneOf(n, {"p", "li", "dt", "dd", "option", "optgroup", "tr", "td", "th", "thead",
-                   "tbody", "tfoot", "rb", "rt", "rtc", "rp", "colgroup", "caption"});
+// §13.2.4.3: the formatting elements (kept in the list of active formatting
+// elements and reconstructed after being closed implicitly).
+bool IsFormatting(std::string_view n) {
+  return OneOf(n, {"a", "b", "big", "code", "em", "font", "i", "nobr", "s", "small", "strike",
+                   "strong", "tt", "u"});
 }
 
-// Estimates whether the open-element stack of the tree builder would grow beyond
-// `limit`: a stack of open names, end tags popping to their match within scope.
+// §13.2.4.2: the "special" category (HTML namespace part).
+bool IsSpecial(std::string_view n) {
+  return OneOf(n, {"address", "applet", "area", "article", "aside", "base", "basefont",
+                   "bgsound", "blockquote", "body", "br", "button", "caption", "center", "col",
+                   "colgroup", "dd", "details", "dir", "div", "dl", "dt", "embed", "fieldset",
+                   "figcaption", "figure", "footer", "form", "frame", "frameset", "h1", "h2",
+                   "h3", "h4", "h5", "h6", "head", "header", "hgroup", "hr", "html", "iframe",
+                   "img", "input", "keygen", "li", "link", "listing", "main", "marquee", "menu",
+                   "meta", "nav", "noembed", "noframes", "noscript", "object", "ol", "p",
+                   "param", "plaintext", "pre", "script", "search", "section", "select",
+                   "source", "style", "summary", "table", "tbody", "td", "template",
+                   "textarea", "tfoot", "th", "thead", "title", "tr", "track", "ul", "wbr",
+                   "xmp"});
+}
+
+// §13.2.6.4.7 ("in body"): start tags that close an open p element (in button
+// scope) and are inserted without reconstructing the active formatting elements.
+bool ClosesP(std::string_view n) {
+  return OneOf(n, {"address", "article", "aside", "blockquote", "center", "details", "dialog",
+                   "dir", "div", "dl", "fieldset", "figcaption", "figure", "footer", "header",
+                   "hgroup", "main", "menu", "nav", "ol", "p", "search", "section", "summary",
+                   "ul", "h1", "h2", "h3", "h4", "h5", "h6", "pre", "listing", "form", "li",
+                   "dd", "dt", "plaintext", "table", "hr", "xmp"});
+}
+
+// A model of the tree builder's stack of open elements, good enough to bound its
+// depth: implied end tags of p/li/dd/dt/td/th/tr/option, end tags popping to
+// their match in scope, and formatting elements closed implicitly coming back
+// (reconstruction, at most three alike as by the Noah's Ark clause) with the
+// next text or phrasing start tag.
+class DepthModel {
+ public:
+  explicit DepthModel(size_t limit) : limit_(limit) {}
+
+  // Each returns false once the depth has gone above the limit.
+  bool Text(std::string_view s) {
+    for (char c : s) {
+      if (!IsHtmlSpace(c)) return Reconstruct();
+    }
+    return true;
+  }
+
+  bool Tag(const TagToken& tag) {
+    const std::string& n = tag.name;
+    if (n == "html" || n == "head" || n == "body") return true;
+    if (tag.end) {
+      EndTag(n);
+      return true;
+    }
+    if (IsRawText(n)) return true;  // pushed and popped with its contents
+    if (tables_ == 0 && OneOf(n, {"caption", "col", "colgroup", "tbody", "td", "tfoot", "th",
+                                  "thead", "tr"})) {
+      return true;  // "in body": table parts outside a table are ignored
+    }
+    if (IsVoid(n)) return ClosesP(n) ? true : Reconstruct();
+    if (tag.self_closing && foreign_ > 0) return true;
+    ImpliedEnds(n);
+    if (!ClosesP(n) && !Reconstruct()) return false;
+    if (n == "a" || n == "nobr") {  // an open a / nobr is closed first (adoption agency)
+      const size_t d = Find(n, /*stop_at_special=*/false);
+      if (d != kNone) PopTo(d);
+      RemovePending(n);
+    }
+    return Push(n);
+  }
+
+ private:
+  static constexpr size_t kNone = static_cast<size_t>(-1);
+
+  // The index of the topmost `n` in scope, or kNone.
+  size_t Find(std::string_view n, bool stop_at_special) const {
+    for (size_t d = stack_.size(); d-- > 0;) {
+      if (stack_[d] == n) return d;
+      if (IsScopeMarker(stack_[d])) return kNone;
+      if (stop_at_special && IsSpecial(stack_[d]) && stack_[d] != "address" &&
+          stack_[d] != "div" && stack_[d] != "p") {
+        return kNone;
+      }
+    }
+    return kNone;
+  }
+
+  size_t FindAny(std::initializer_list<std::string_view> names,
+                 std::initializer_list<std::string_view> stops) const {
+    for (size_t d = stack_.size(); d-- > 0;) {
+      if (OneOf(stack_[d], names)) return d;
+      if (OneOf(stack_[d], stops)) return kNone;
+    }
+    return kNone;
+  }
+
+  void ImpliedEnds(const std::string& n) {
+    size_t d = kNone;
+    if (ClosesP(n)) {
+      // "close a p element" if one is in button scope.
+      d = FindAny({"p"}, {"applet", "caption", "html", "table", "td", "th", "marquee",
+                          "object", "template", "button"});
+      if (d != kNone) PopTo(d);
+    }
+    if (n == "li") {
+      d = Find("li", true);
+    } else if (n == "dd" || n == "dt") {
+      d = FindAny({"dd", "dt"}, {"applet", "caption", "html", "table", "td", "th", "marquee",
+                                 "object", "template", "ol", "ul", "dl", "li", "blockquote",
+                                 "section", "article", "aside", "nav", "header", "footer"});
+    } else if (n == "td" || n == "th") {
+      d = FindAny({"td", "th"}, {"html", "table", "template", "tr"});
+    } else if (n == "tr") {
+      d = FindAny({"tr"}, {"html", "table", "template"});
+    } else if (n == "thead" || n == "tbody" || n == "tfoot") {
+      d = FindAny({"thead", "tbody", "tfoot"}, {"html", "table", "template"});
+    } else if (n == "option" || n == "optgroup") {
+      if (!stack_.empty() && stack_.back() == "option") d = stack_.size() - 1;
+      if (n == "optgroup" && d == kNone && !stack_.empty() && stack_.back() == "optgroup") {
+        d = stack_.size() - 1;
+      }
+    }
+    if (d != kNone) PopTo(d);
+  }
+
+  void EndTag(const std::string& n) {
+    // Table parts close in table scope (through open cells), others in scope.
+    const size_t d = OneOf(n, {"table", "tbody", "thead", "tfoot", "tr", "td", "th", "caption"})
+                         ? FindAny({n}, {"html", "table", "template"})
+                         : Find(n, false);
+    if (d != kNone) {
+      PopTo(d);
+    } else if (IsFormatting(n)) {
+      RemovePending(n);
+    }
+    if (IsFormatting(n)) RemovePending(n);
+  }
+
+  // Removes stack_[d..]; formatting elements above d stay active (pending
+  // reconstruction) unless a scope marker above them is popped too.
+  void PopTo(size_t d) {
+    std::vector<std::string> kept;
+    for (size_t k = stack_.size(); k-- > d;) {
+      const std::string& name = stack_[k];
+      if (name == "svg" || name == "math") --foreign_;
+      if (name == "table") --tables_;
+      if (IsScopeMarker(name)) {
+        kept.clear();      // the list is cleared up to the marker
+        pending_.clear();
+      } else if (k > d && IsFormatting(name)) {
+        kept.push_back(name);
+      }
+    }
+    stack_.resize(d);
+    for (size_t k = kept.size(); k-- > 0;) AddPending(kept[k]);
+  }
+
+  void AddPending(const std::string& n) {
+    int same = 0;
+    for (const auto& p : pending_) same += p == n;
+    if (same < 3) pending_.push_back(n);
+  }
+
+  void RemovePending(const std::string& n) {
+    for (size_t k = pending_.size(); k-- > 0;) {
+      if (pending_[k] == n) {
+        pending_.erase(pending_.begin() + static_cast<std::ptrdiff_t>(k));
+        return;
+      }
+    }
+  }
+
+  bool Reconstruct() {
+    std::vector<std::string> p;
+    p.swap(pending_);
+    for (const auto& n : p) {
+      if (!Push(n)) return false;
+    }
+    return true;
+  }
+
+  bool Push(const std::string& n) {
+    stack_.push_back(n);
+    if (n == "svg" || n == "math") ++foreign_;
+    if (n == "table") ++tables_;
+    return stack_.size() <= limit_;
+  }
+
+  size_t limit_;
+  std::vector<std::string> stack_;
+  std::vector<std::string> pending_;
+  int foreign_ = 0;  // svg/math elements open: there "/>" closes an element
+  int tables_ = 0;   // table elements open
+};
+
+// Whether the tree builder's stack of open elements would grow beyond `limit`.
 bool TooDeep(std::string_view html, size_t limit) {
-  std::vector<std::string> stack;
-  int foreign = 0;  // svg/math elements open: there "/>" closes an element
+  DepthModel model(limit);
   bool too_deep = false;
   Tokenize(
-      html, [](std::string_view) { return true; },
+      html,
+      [&](std::string_view s) {
+        too_deep = !model.Text(s);
+        return !too_deep;
+      },
       [&](const TagToken& tag, std::string_view) {
-        const std::string& name = tag.name;
-        if (name == "html" || name == "head" || name == "body") return true;
-        if (tag.end) {
-          for (size_t d = stack.size(); d-- > 0;) {
-            if (stack[d] == name) {
-              for (size_t p = d; p < stack.size(); ++p) {
-                if (stack[p] == "svg" || stack[p] == "math") --foreign;
-              }
-              stack.resize(d);
-              break;
-            }
-            if (IsScopeMarker(stack[d])) break;
-          }
-          return true;
-        }
-        if (IsVoid(name) || IsRawText(name) || name == "plaintext") return true;
-        if (tag.self_closing && foreign > 0) return true;
-        if (ClosedBySibling(name) && !stack.empty() && stack.back() == name) return true;
-        stack.push_back(name);
-        if (name == "svg" || name == "math") ++foreign;
-        if (stack.size() > limit) {
-          too_deep = true;
-          return false;
-        }
-        return true;
+        too_deep = !model.Tag(tag);
+        return !too_deep;
       });
   return too_deep;
 }

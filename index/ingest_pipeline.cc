@@ -11,6 +11,8 @@
 #include <thread>
 
 #include "index/line_reader.h"
+#include "index/warc_reader.h"
+#include "index/warc_record.h"
 #include "index/signer.h"
 
 namespace shingleton {
@@ -25,7 +27,9 @@ struct RawBatch {
     uint64_t number;
   };
   std::vector<Line> lines;
+  std::vector<WarcRecord> warc;  // WARC input: whole records instead of lines
   uint64_t raw_bytes_done = 0;
+  size_t size() const { return lines.size() + warc.size(); }
 };
 
 // Reads the inputs in order, one batch at a time. Owned by the serial stage.
@@ -36,46 +40,82 @@ class BatchReader {
   // Returns nullptr at the end or on error (then status() is set).
   std::unique_ptr<RawBatch> Next() {
     auto batch = std::make_unique<RawBatch>();
-    while (batch->lines.empty()) {
-      if (!reader_ && !OpenNext()) return nullptr;
+    while (batch->size() == 0) {
+      if (!lines_ && !warc_ && !OpenNext()) return nullptr;
       batch->file_index = file_index_;
-      std::string_view line;
-      while (batch->lines.size() < options_.batch_lines &&
-             batch->buffer.size() < options_.batch_bytes && reader_->Next(&line)) {
-        if (line.find_first_not_of(" \t") == std::string_view::npos) continue;  // blank line
-        batch->lines.push_back({batch->buffer.size(), line.size(), reader_->line_number()});
-        batch->buffer.append(line.data(), line.size());
-        batch->buffer.push_back('\n');
-      }
-      if (!reader_->status().ok()) {
-        status_ = reader_->status();
-        return nullptr;
-      }
-      if (batch->lines.size() < options_.batch_lines && batch->buffer.size() < options_.batch_bytes) {
-        // This file is exhausted.
-        done_bytes_ += reader_->raw_offset();
-        reader_.reset();
+      const bool more = warc_ ? FillWarc(batch.get()) : FillLines(batch.get());
+      if (!status_.ok()) return nullptr;
+      if (!more) {  // this file is exhausted
+        done_bytes_ += warc_ ? warc_->raw_offset() : lines_->raw_offset();
+        lines_.reset();
+        warc_.reset();
         ++file_index_;
-        if (!batch->lines.empty()) break;
       }
     }
     batch->buffer.append(simdjson::SIMDJSON_PADDING, ' ');
-    batch->raw_bytes_done = done_bytes_ + (reader_ ? reader_->raw_offset() : 0);
+    batch->raw_bytes_done =
+        done_bytes_ + (warc_ ? warc_->raw_offset() : lines_ ? lines_->raw_offset() : 0);
     return batch;
   }
   const Status& status() const { return status_; }
 
  private:
+  bool Full(const RawBatch& b) const {
+    return b.size() >= options_.batch_lines || b.buffer.size() >= options_.batch_bytes;
+  }
+
+  // Returns false when the file has no more lines.
+  bool FillLines(RawBatch* batch) {
+    std::string_view line;
+    while (!Full(*batch)) {
+      if (!lines_->Next(&line)) {
+        status_ = lines_->status();
+        return false;
+      }
+      if (line.find_first_not_of(" \t") == std::string_view::npos) continue;  // blank line
+      batch->lines.push_back({batch->buffer.size(), line.size(), lines_->line_number()});
+      batch->buffer.append(line.data(), line.size());
+      batch->buffer.push_back('\n');
+    }
+    return true;
+  }
+
+  bool FillWarc(RawBatch* batch) {
+    size_t bytes = 0;
+    while (batch->warc.size() < options_.batch_lines && bytes < options_.batch_bytes) {
+      WarcRecord rec;
+      if (!warc_->Next(&rec)) {
+        status_ = warc_->status();
+        return false;
+      }
+      bytes += rec.block.size();
+      batch->warc.push_back(std::move(rec));
+    }
+    return true;
+  }
+
   bool OpenNext() {
     if (file_index_ >= options_.inputs.size()) return false;
-    reader_ = std::make_unique<LineReader>();
-    status_ = reader_->Open(options_.inputs[file_index_]);
+    const std::string& path = options_.inputs[file_index_];
+    auto is_warc = FileLooksLikeWarc(path);
+    if (!is_warc.ok()) {
+      status_ = is_warc.status();
+      return false;
+    }
+    if (is_warc.value()) {
+      warc_ = std::make_unique<WarcReader>();
+      status_ = warc_->Open(path);
+    } else {
+      lines_ = std::make_unique<LineReader>();
+      status_ = lines_->Open(path);
+    }
     return status_.ok();
   }
 
   const IngestOptions& options_;
   size_t file_index_ = 0;
-  std::unique_ptr<LineReader> reader_;
+  std::unique_ptr<LineReader> lines_;
+  std::unique_ptr<WarcReader> warc_;
   uint64_t done_bytes_ = 0;
   Status status_;
 };
@@ -94,39 +134,83 @@ std::string ExcerptOf(std::string_view text, size_t max_bytes) {
   return std::string(text.substr(0, n));
 }
 
+// Fills rec.meta from a parsed record and signs its text.
+void SignRecord(const ParsedRecord& parsed, const IngestOptions& options, Worker* w, uint32_t* sig,
+                uint64_t* buckets, SignedRecord* rec) {
+  rec->meta.id = std::string(parsed.id);
+  rec->meta.key = DocKey(parsed.id);
+  rec->meta.url = std::string(parsed.url);
+  rec->meta.rank = parsed.rank;
+  rec->meta.date = std::string(parsed.date);
+  rec->meta.text_bytes = parsed.text.size();
+  rec->meta.excerpt = ExcerptOf(parsed.text, options.excerpt_bytes);
+  uint64_t content[2];
+  rec->meta.tokens = w->signer.Sign(parsed.text, sig, buckets, content);
+  rec->meta.content_hi = content[0];
+  rec->meta.content_lo = content[1];
+}
+
+void SignJsonLine(const RawBatch& raw, size_t i, const IngestOptions& options, const std::string& file,
+                  Worker* w, uint32_t* sig, uint64_t* buckets, SignedRecord* rec) {
+  const RawBatch::Line& line = raw.lines[i];
+  rec->meta.source = file + ":" + std::to_string(line.number);
+  ParsedRecord parsed;
+  Status s = w->parser.Parse(raw.buffer.data() + line.offset, line.length,
+                             raw.buffer.size() - line.offset, &parsed, &rec->bad);
+  if (!s.ok()) {
+    rec->error = s.WithContext(rec->meta.source);
+    return;
+  }
+  SignRecord(parsed, options, w, sig, buckets, rec);
+}
+
+void SignWarcRecord(const WarcRecord& warc, const IngestOptions& options, const std::string& file,
+                    Worker* w, uint32_t* sig, uint64_t* buckets, SignedRecord* rec) {
+  rec->meta.source = file + "@" + std::to_string(warc.offset);
+  WarcDocument doc;
+  WarcSkip skip = WarcSkip::kNone;
+  Status s = ExtractWarcDocument(warc, &doc, &skip);
+  if (!s.ok()) {
+    rec->bad = BadRecord::kMalformedRecord;
+    rec->error = s.WithContext(file);
+    return;
+  }
+  if (skip != WarcSkip::kNone) {
+    rec->skipped = WarcSkipName(skip);
+    return;
+  }
+  if (doc.id.empty()) {
+    rec->bad = BadRecord::kMissingField;
+    rec->error = Status::BadInput(rec->meta.source + ": record without WARC-Record-ID");
+    return;
+  }
+  ParsedRecord parsed;
+  parsed.id = doc.id;
+  parsed.url = doc.url;
+  parsed.date = doc.date;
+  parsed.text = doc.text;
+  SignRecord(parsed, options, w, sig, buckets, rec);
+  rec->truncated = doc.truncated;
+}
+
 std::unique_ptr<SignedBatch> SignBatch(const RawBatch& raw, const IngestOptions& options,
                                        const SketchScheme& scheme, Worker* w) {
   auto out = std::make_unique<SignedBatch>();
-  const size_t n = raw.lines.size();
+  const size_t n = raw.size();
   const int k = scheme.num_hashes, b = scheme.bands;
   out->records.resize(n);
   out->sigs.resize(n * k);
   out->buckets.resize(n * b);
   out->raw_bytes_done = raw.raw_bytes_done;
   const std::string& file = options.inputs[raw.file_index];
-  for (size_t i = 0; i < n; ++i) {
-    const RawBatch::Line& line = raw.lines[i];
-    SignedRecord& rec = out->records[i];
-    rec.meta.source = file + ":" + std::to_string(line.number);
-    out->text_bytes += line.length + 1;
-    ParsedRecord parsed;
-    Status s = w->parser.Parse(raw.buffer.data() + line.offset, line.length,
-                               raw.buffer.size() - line.offset, &parsed, &rec.bad);
-    if (!s.ok()) {
-      rec.error = s.WithContext(rec.meta.source);
-      continue;
-    }
-    rec.meta.id = std::string(parsed.id);
-    rec.meta.key = DocKey(parsed.id);
-    rec.meta.url = std::string(parsed.url);
-    rec.meta.rank = parsed.rank;
-    rec.meta.date = std::string(parsed.date);
-    rec.meta.text_bytes = parsed.text.size();
-    rec.meta.excerpt = ExcerptOf(parsed.text, options.excerpt_bytes);
-    uint64_t content[2];
-    rec.meta.tokens = w->signer.Sign(parsed.text, &out->sigs[i * k], &out->buckets[i * b], content);
-    rec.meta.content_hi = content[0];
-    rec.meta.content_lo = content[1];
+  for (size_t i = 0; i < raw.lines.size(); ++i) {
+    out->text_bytes += raw.lines[i].length + 1;
+    SignJsonLine(raw, i, options, file, w, &out->sigs[i * k], &out->buckets[i * b], &out->records[i]);
+  }
+  for (size_t i = 0; i < raw.warc.size(); ++i) {
+    out->text_bytes += raw.warc[i].block.size();
+    SignWarcRecord(raw.warc[i], options, file, w, &out->sigs[i * k], &out->buckets[i * b],
+                   &out->records[i]);
   }
   return out;
 }

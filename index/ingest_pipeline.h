@@ -23,8 +23,14 @@
 
 namespace shingleton {
 
+// Input files are JSON Lines or WARC (ISO 28500; WARC/1.0 and 1.1), detected from
+// their first decompressed bytes; plain, gzip (including record-at-a-time
+// .warc.gz) or Zstandard. A WARC record's document is its WARC-Record-ID,
+// WARC-Target-URI and WARC-Date, and the text of a 200 text/html (visible text) or
+// text/plain response, or of a text resource/conversion record; other records are
+// skipped and counted. The record's source is "file@byte-offset".
 struct IngestOptions {
-  std::vector<std::string> inputs;  // JSON Lines files, plain or .gz, read in this order
+  std::vector<std::string> inputs;  // JSONL or WARC files, read in this order
   FieldNames fields;
   // Worker threads for parsing and signing. Default 0: all cores.
   int threads = 0;
@@ -42,6 +48,10 @@ struct SignedRecord {
   DocumentMeta meta;  // ordinal is left 0: the sink assigns it
   BadRecord bad = BadRecord::kNone;
   Status error;       // non-OK when bad != kNone; message starts with "file:line: "
+  // Non-empty for a WARC record that holds no document (a request, a 404, an
+  // image...): not an error; counted by this reason (WarcSkipName).
+  std::string skipped;
+  bool truncated = false;  // WARC-Truncated, or a body cut at the size limit
 };
 
 struct SignedBatch {

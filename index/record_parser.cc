@@ -20,6 +20,7 @@ const char* BadRecordName(BadRecord kind) {
     case BadRecord::kWrongType: return "wrong_type";
     case BadRecord::kInvalidUtf8: return "invalid_utf8";
     case BadRecord::kDuplicateId: return "duplicate_id";
+    case BadRecord::kMalformedRecord: return "malformed_record";
     case BadRecord::kCount: break;
   }
   return "?";

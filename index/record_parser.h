@@ -30,7 +30,7 @@ struct FieldNames {
 };
 
 enum class BadRecord { kNone = 0, kMalformedJson, kMissingField, kWrongType, kInvalidUtf8,
-                       kDuplicateId, kCount };
+                       kDuplicateId, kMalformedRecord /* WARC/HTTP */, kCount };
 const char* BadRecordName(BadRecord kind);
 
 struct ParsedRecord {

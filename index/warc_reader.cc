@@ -133,7 +133,8 @@ bool WarcReader::Ensure(size_t n) {
   return true;
 }
 
-WarcReader::LineResult WarcReader::ReadLine(std::string_view* line, uint64_t* line_offset) {
+WarcReader::LineResult WarcReader::ReadLine(std::string_view* line, uint64_t* line_offset,
+                                            bool version_line) {
   size_t scanned = 0;
   for (;;) {
     const char* begin = buf_.data() + pos_;
@@ -143,9 +144,13 @@ WarcReader::LineResult WarcReader::ReadLine(std::string_view* line, uint64_t* li
       const size_t len = static_cast<size_t>(static_cast<const char*>(nl) - begin);
       *line_offset = base_ + pos_;
       if (len == 0 || begin[len - 1] != '\r') {
-        // WARC 1.1 §4: header lines end with CRLF.
-        Fail(*line_offset, "header line does not end with CRLF: " +
-                               Quote(std::string_view(begin, len)));
+        const std::string_view text(begin, len);
+        if (version_line && text.substr(0, 7) != "WARC/1.") {
+          Fail(*line_offset, "expected a WARC version line (\"WARC/1.1\"), found " + Quote(text));
+        } else {
+          // WARC 1.1 §4: header lines end with CRLF.
+          Fail(*line_offset, "header line does not end with CRLF: " + Quote(text));
+        }
         return LineResult::kError;
       }
       *line = std::string_view(begin, len - 1);
@@ -178,7 +183,7 @@ bool WarcReader::Next(WarcRecord* rec) {
 
   std::string_view line;
   uint64_t at = 0;
-  switch (ReadLine(&line, &at)) {
+  switch (ReadLine(&line, &at, /*version_line=*/true)) {
     case LineResult::kError: return false;
     case LineResult::kEnd: return Fail(base_ + end_, "file ends inside the WARC version line");
     case LineResult::kLine: break;
@@ -195,7 +200,7 @@ bool WarcReader::Next(WarcRecord* rec) {
 
   // Named fields up to the empty line.
   for (;;) {
-    switch (ReadLine(&line, &at)) {
+    switch (ReadLine(&line, &at, /*version_line=*/false)) {
       case LineResult::kError: return false;
       case LineResult::kEnd:
         return Fail(base_ + end_, "file ends inside the WARC header (truncated record)");

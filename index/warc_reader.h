@@ -90,7 +90,7 @@ class WarcReader {
   enum class LineResult { kLine, kEnd, kError };
   size_t ReadMore();
   bool Ensure(size_t n);
-  LineResult ReadLine(std::string_view* line, uint64_t* line_offset);
+  LineResult ReadLine(std::string_view* line, uint64_t* line_offset, bool version_line);
   bool ReadBlock(WarcRecord* rec);
   bool Fail(uint64_t at, const std::string& what);
   bool FailStream();
