@@ -2,6 +2,7 @@
 // next against it. Checked against exact Jaccard by brute force (by definition)
 // and against checksums of the reference files, which must never change.
 #include <gtest/gtest.h>
+#include <zlib.h>
 
 #include <fstream>
 #include <set>
@@ -204,6 +205,48 @@ TEST(ReferenceTest, UrlRevisitsAndExactFastPath) {
   EXPECT_EQ(drops.at("new-3").reason, "exact");
   EXPECT_EQ(drops.at("new-4").reason, "exact");
   EXPECT_EQ(drops.at("new-4").duplicate_of, "new-5");
+}
+
+// The new crawl as WARC (record-at-a-time gzip members, WARC 1.1 annex D; written
+// here with zlib, one gzip member per record) gives the same decisions against
+// the reference as the same documents as JSON Lines.
+TEST(ReferenceTest, WarcCrawlDecidesLikeJsonl) {
+  TempDir dir;
+  SplitInTwo(dir);
+  ASSERT_TRUE(RunDedupJob(Job(dir.File("old.jsonl"), dir.File("old"))).ok());
+  FreezeOptions fo;
+  fo.index_path = dir.File("old/index");
+  fo.out_dir = dir.File("ref");
+  ASSERT_TRUE(FreezeGeneration(fo).ok());
+  const Corpus fresh = ReadJsonlCorpus(dir.File("new.jsonl"));
+  const std::string warc = dir.File("new.warc.gz");
+  for (size_t i = 0; i < fresh.ids.size(); ++i) {
+    // A resource record (WARC 1.1 §6.4) with a text/plain block, and a request
+    // record that holds no document.
+    const std::string block = fresh.texts[i];
+    std::string rec = "WARC/1.1\r\nWARC-Type: resource\r\nWARC-Record-ID: " + fresh.ids[i] +
+                      "\r\nWARC-Date: 2026-11-15T12:00:00Z\r\nWARC-Target-URI: https://isles.example/p/" +
+                      std::to_string(i) + "\r\nContent-Type: text/plain; charset=utf-8\r\nContent-Length: " +
+                      std::to_string(block.size()) + "\r\n\r\n" + block + "\r\n\r\n";
+    const std::string req = "GET /p HTTP/1.1\r\nHost: isles.example\r\n\r\n";
+    rec += "WARC/1.1\r\nWARC-Type: request\r\nWARC-Record-ID: <urn:uuid:req-" + std::to_string(i) +
+           ">\r\nContent-Type: application/http; msgtype=request\r\nContent-Length: " +
+           std::to_string(req.size()) + "\r\n\r\n" + req + "\r\n\r\n";
+    gzFile gz = gzopen(warc.c_str(), "ab");
+    ASSERT_NE(gz, nullptr);
+    ASSERT_EQ(gzwrite(gz, rec.data(), static_cast<unsigned>(rec.size())), static_cast<int>(rec.size()));
+    gzclose(gz);
+  }
+  DedupOptions a = Job(warc, dir.File("warc"));
+  a.references = {dir.File("ref")};
+  auto sa = RunDedupJob(a);
+  ASSERT_TRUE(sa.ok()) << sa.status().ToString();
+  DedupOptions b = Job(dir.File("new.jsonl"), dir.File("jsonl"));
+  b.references = {dir.File("ref")};
+  ASSERT_TRUE(RunDedupJob(b).ok());
+  EXPECT_EQ(sa->documents, fresh.ids.size());
+  EXPECT_EQ(sa->records_without_document.at("record_type"), fresh.ids.size());
+  EXPECT_EQ(ReadManifests(dir.File("warc")).kept_of, ReadManifests(dir.File("jsonl")).kept_of);
 }
 
 // Keep policies newest and oldest use the capture date.
