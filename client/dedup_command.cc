@@ -69,12 +69,12 @@ void AddDedupCommand(CLI::App* app, int* rc) {
   DedupOptions& o = flags->job.options;
   CLI::App* cmd = app->add_subcommand(
       "dedup",
-      "Cut JSON Lines corpora down to one document per near-duplicate cluster.\n"
+      "Cut JSON Lines or WARC corpora down to one document per near-duplicate cluster.\n"
       "Writes keep.jsonl, drop.jsonl and summary.json to --out and keeps the LSH index\n"
       "(RocksDB) at --index. Inputs are never modified.");
   cmd->add_option("-i,--input", o.ingest.inputs,
-                  "Input file: JSON Lines, one object per line, plain or gzip (.gz). Repeatable; "
-                  "read in the order given")
+                  "Input file: JSON Lines (one object per line) or WARC 1.0/1.1, plain, gzip or "
+                  "zstd, detected from the content. Repeatable; read in the order given")
       ->required()
       ->check(CLI::ExistingFile);
   cmd->add_option("-o,--out", o.out_dir, "Output directory for the manifests (created if missing)")

@@ -181,7 +181,7 @@ void AddIngestCommand(CLI::App* app, int* rc) {
       "Ingest worker: sign JSON Lines documents locally and stream their signatures and\n"
       "metadata (not the text) to a coordinator. The first ingest of a job creates it with\n"
       "these parameters; later ones must use the same. Safe to re-run after a failure.");
-  cmd->add_option("-i,--input", f->job.options.ingest.inputs, "Input file (JSONL, plain or .gz); repeatable")
+  cmd->add_option("-i,--input", f->job.options.ingest.inputs, "Input file (JSON Lines or WARC; plain, gzip or zstd); repeatable")
       ->required()
       ->check(CLI::ExistingFile);
   cmd->add_option("--job", f->job_name, "Job name (letters, digits, - _ .)")->required();
