@@ -2,6 +2,7 @@
 
 #include <gumbo.h>
 
+#include <algorithm>
 #include <cstring>
 #include <vector>
 
@@ -273,6 +274,8 @@ struct TagToken {
   std::string name;  // lowercased
   bool end = false;
   bool self_closing = false;
+  size_t begin = 0;  // the tag's bytes in the input: [begin, end_offset)
+  size_t end_offset = 0;
 };
 
 // WHATWG HTML §13.1.2: void elements (and the obsolete ones the parser treats alike).
@@ -351,6 +354,8 @@ void Tokenize(std::string_view h, OnText on_text, OnTag on_tag) {
     if (k >= n) return;  // EOF in a tag: the tag is dropped
     tag.self_closing = k > name_at && h[k - 1] == '/';
     i = k + 1;
+    tag.begin = lt;
+    tag.end_offset = i;
     std::string_view contents;
     if (!end && IsRawText(tag.name)) {
       // Contents end at "</name" followed by whitespace, '/' or '>'.
@@ -446,7 +451,6 @@ class DepthModel {
       return true;  // "in body": table parts outside a table are ignored
     }
     if (IsVoid(n)) return ClosesP(n) ? true : Reconstruct();
-    if (tag.self_closing && foreign_ > 0) return true;
     ImpliedEnds(n);
     if (!ClosesP(n) && !Reconstruct()) return false;
     if (n == "a" || n == "nobr") {  // an open a / nobr is closed first (adoption agency)
@@ -530,7 +534,6 @@ class DepthModel {
     std::vector<std::string> kept;
     for (size_t k = stack_.size(); k-- > d;) {
       const std::string& name = stack_[k];
-      if (name == "svg" || name == "math") --foreign_;
       if (name == "table") --tables_;
       if (IsScopeMarker(name)) {
         kept.clear();      // the list is cleared up to the marker
@@ -569,7 +572,6 @@ class DepthModel {
 
   bool Push(const std::string& n) {
     stack_.push_back(n);
-    if (n == "svg" || n == "math") ++foreign_;
     if (n == "table") ++tables_;
     return stack_.size() <= limit_;
   }
@@ -577,7 +579,6 @@ class DepthModel {
   size_t limit_;
   std::vector<std::string> stack_;
   std::vector<std::string> pending_;
-  int foreign_ = 0;  // svg/math elements open: there "/>" closes an element
   int tables_ = 0;   // table elements open
 };
 
@@ -681,6 +682,101 @@ std::string Flatten(std::string_view html) {
   return out;
 }
 
+// ---------------------------------------------------------------------------
+// Foreign content. gumbo 0.10.1 (Debian 12, built with assertions) aborts the
+// process on some inputs with svg or math inside tables, e.g.
+//   <table><svg><foreignObject><![CDATA[>]]>t
+//   <table><caption><svg><select><desc><table><table>
+// (found by fuzzing; without svg/math no abort was found). So gumbo never sees
+// foreign content: svg and math elements are cut out with their contents, and
+// any "<svg"/"<math" tag left over (unmatched, or where this tokenizer and
+// gumbo's disagree) is renamed to an unknown element, x-svg / x-math. The HTML
+// parser enters foreign content only at an svg or math start tag (WHATWG HTML
+// §13.2.6.4.7), and its tokenizer only makes one from those literal bytes.
+
+// True at h[i] == '<' starting "<svg", "</svg", "<math" or "</math" followed by a
+// tag-name terminator (§13.2.5.8: whitespace, '/', '>'; CR becomes LF).
+bool IsForeignTagAt(std::string_view h, size_t i, size_t* name_at) {
+  size_t j = i + 1;
+  if (j < h.size() && h[j] == '/') ++j;
+  for (std::string_view name : {std::string_view("svg"), std::string_view("math")}) {
+    const size_t after = j + name.size();
+    if (after < h.size() && EqualsIgnoreCase(h.substr(j, name.size()), name) &&
+        (IsHtmlSpace(h[after]) || h[after] == '/' || h[after] == '>')) {
+      *name_at = j;
+      return true;
+    }
+  }
+  return false;
+}
+
+bool MayHaveForeignContent(std::string_view h) {
+  size_t name_at;
+  for (size_t i = h.find('<'); i != std::string_view::npos; i = h.find('<', i + 1)) {
+    if (IsForeignTagAt(h, i, &name_at)) return true;
+  }
+  return false;
+}
+
+std::string WithoutForeignContent(std::string_view h) {
+  struct Range {
+    size_t begin, end;
+  };
+  struct Open {
+    std::string name;
+    Range tag;
+  };
+  std::vector<Range> cut;
+  std::vector<Open> open;
+  Tokenize(
+      h, [](std::string_view) { return true; },
+      [&](const TagToken& tag, std::string_view) {
+        if (tag.name != "svg" && tag.name != "math") return true;
+        const Range r{tag.begin, tag.end_offset};
+        if (!tag.end) {
+          if (tag.self_closing) {
+            cut.push_back(r);
+          } else {
+            open.push_back({tag.name, r});
+          }
+          return true;
+        }
+        for (size_t k = open.size(); k-- > 0;) {
+          if (open[k].name == tag.name) {
+            cut.push_back({open[k].tag.begin, r.end});  // the element with its contents
+            open.resize(k);
+            return true;
+          }
+        }
+        cut.push_back(r);  // an unmatched end tag
+        return true;
+      });
+  for (const Open& o : open) cut.push_back(o.tag);  // unmatched start tags
+  std::sort(cut.begin(), cut.end(), [](const Range& a, const Range& b) { return a.begin < b.begin; });
+  std::string out;
+  out.reserve(h.size());
+  size_t pos = 0;
+  for (const Range& r : cut) {
+    if (r.end <= pos) continue;  // inside a range already cut
+    if (r.begin > pos) out.append(h.data() + pos, r.begin - pos);
+    pos = std::max(pos, r.end);
+  }
+  out.append(h.data() + pos, h.size() - pos);
+  // Whatever still reads as an svg/math tag is renamed.
+  std::string safe;
+  safe.reserve(out.size());
+  size_t copied = 0, name_at = 0;
+  for (size_t i = out.find('<'); i != std::string::npos; i = out.find('<', i + 1)) {
+    if (!IsForeignTagAt(out, i, &name_at)) continue;
+    safe.append(out, copied, name_at - copied);
+    safe += "x-";
+    copied = name_at;
+  }
+  if (copied == 0) return out;
+  safe.append(out, copied, std::string::npos);
+  return safe;
+}
+
 std::string ParseAndWalk(std::string_view html) {
   GumboOptions options = kGumboDefaultOptions;
   options.max_errors = 0;  // see the header: the error list can cost gigabytes
@@ -694,6 +790,11 @@ std::string ParseAndWalk(std::string_view html) {
 }  // namespace
 
 std::string HtmlToText(std::string_view html) {
+  std::string without_foreign;
+  if (MayHaveForeignContent(html)) {
+    without_foreign = WithoutForeignContent(html);
+    html = without_foreign;
+  }
   if (TooDeep(html, kMaxHtmlDepth)) return ParseAndWalk(Flatten(html));
   return ParseAndWalk(html);
 }

@@ -7,7 +7,10 @@
 //    the contents of head (so title too: the title is NOT part of the text),
 //    script, style, noscript, template, iframe, noembed, noframes, datalist,
 //    rp, and of any element with a `hidden` attribute or a closed dialog.
-//    Comments are left out.
+//    Comments are left out. So are SVG and MathML (foreign content) with their
+//    contents — chart labels and formulas are not page text here, and gumbo
+//    0.10.1 aborts the process (assertion failure) on some foreign content in
+//    tables; see html_text.cc. An svg/math tag without a match is dropped alone.
 //  - Block-level elements (display: block, list-item, table, table-row, ... in
 //    the Rendering section's style sheet: p, div, br, li, h1-h6, tr, table,
 //    section, article, header, footer, nav, aside, main, blockquote, pre, ul,

@@ -121,6 +121,23 @@ TEST(HtmlTextTest, NonHtmlInput) {
   EXPECT_NE(text.find("ok"), std::string::npos);
 }
 
+// SVG and MathML (WHATWG HTML §13.2.6.5, foreign content) are not part of the
+// text; the inputs gumbo 0.10.1 aborts on (found by fuzzing) are handled.
+TEST(HtmlTextTest, ForeignContentIsLeftOut) {
+  EXPECT_EQ(HtmlToText("<p>before<svg viewBox='0 0 1 1'><text>chart label</text><path d=x/>"
+                       "</svg>after</p>"),
+            "beforeafter");
+  EXPECT_EQ(HtmlToText("<p>x = <math><mi>y</mi><mo>+</mo><mn>1</mn></math>.</p><SVG/>end"),
+            "x = .\nend");
+  // An svg start tag without an end: the tag alone is dropped, the rest is HTML.
+  EXPECT_EQ(HtmlToText("<div><svg><p>para</p></div>"), "para");
+  // Outside foreign content "<![CDATA[>" is a bogus comment ending at the first
+  // '>' (§13.2.5.42), so "]]>t" is text.
+  EXPECT_EQ(HtmlToText("<table><svg><foreignObject><![CDATA[>]]>t"), "]]>t");
+  EXPECT_EQ(HtmlToText("<table><caption><svg><select><desc><table><table>"), "");
+  EXPECT_EQ(HtmlToText("<p title='<svg>'>attr</p><script>'<svg>'</script>ok"), "attr\nok");
+}
+
 // Output shape: valid UTF-8, no empty line, no space at either end of a line.
 void ExpectWellShaped(const std::string& text, const std::string& what) {
   EXPECT_TRUE(ValidateUtf8(text).ok()) << what;
@@ -175,6 +192,8 @@ TEST(HtmlTextTest, RandomInputNeverCrashes) {
       "123", "x", "p", "div", "table", "td", "tr", "li", "ul", "b", "i", "a", "script", "style",
       "template", "svg", "math", "pre", "textarea", "title", "select", "option", "frameset",
       "plaintext", "xmp", "noscript", "iframe", "head", "body", "html", " ", "\n", "\t", "=",
+      "<svg>", "</svg>", "<math>", "<foreignObject>", "<desc>", "<mi>", "<![CDATA[", "]]>",
+      "<table>", "<caption>", "<select>", "<td>", "<annotation-xml>", "<SVG ", "<math/>",
       "\"", "'", "hidden", "\xC3\xA9", "\xFF", std::string(1, '\0'), "\xE2\x80", "text", "<br>", "<hr>"};
   std::string deep;  // deeper than kMaxHtmlDepth: the flattening path
   for (size_t i = 0; i <= kMaxHtmlDepth; ++i) deep += "<div>";
