@@ -1,3 +1,4 @@
+#include "index/quote.h"
 #include "index/warc_reader.h"
 
 #include <cstring>
@@ -31,23 +32,6 @@ std::string_view TrimLws(std::string_view s) {
   return s;
 }
 
-// At most `max` bytes of `s`, printable ASCII as is and other bytes as \xNN.
-std::string Quote(std::string_view s, size_t max = 40) {
-  static const char kHex[] = "0123456789abcdef";
-  std::string out = "\"";
-  for (size_t i = 0; i < s.size() && i < max; ++i) {
-    const unsigned char c = static_cast<unsigned char>(s[i]);
-    if (c >= 32 && c < 127 && c != '"' && c != '\\') {
-      out.push_back(static_cast<char>(c));
-    } else {
-      out += "\\x";
-      out.push_back(kHex[c >> 4]);
-      out.push_back(kHex[c & 15]);
-    }
-  }
-  out += s.size() > max ? "\"..." : "\"";
-  return out;
-}
 
 }  // namespace
 
@@ -146,10 +130,10 @@ WarcReader::LineResult WarcReader::ReadLine(std::string_view* line, uint64_t* li
       if (len == 0 || begin[len - 1] != '\r') {
         const std::string_view text(begin, len);
         if (version_line && text.substr(0, 7) != "WARC/1.") {
-          Fail(*line_offset, "expected a WARC version line (\"WARC/1.1\"), found " + Quote(text));
+          Fail(*line_offset, "expected a WARC version line (\"WARC/1.1\"), found " + QuoteForMessage(text));
         } else {
           // WARC 1.1 §4: header lines end with CRLF.
-          Fail(*line_offset, "header line does not end with CRLF: " + Quote(text));
+          Fail(*line_offset, "header line does not end with CRLF: " + QuoteForMessage(text));
         }
         return LineResult::kError;
       }
@@ -191,10 +175,10 @@ bool WarcReader::Next(WarcRecord* rec) {
   // WARC 1.1 §4: version = "WARC/1.1" CRLF (WARC/1.0 in ISO 28500:2009).
   if (line != "WARC/1.1" && line != "WARC/1.0") {
     if (line.substr(0, 5) == "WARC/") {
-      return Fail(at, "unsupported WARC version " + Quote(line) +
+      return Fail(at, "unsupported WARC version " + QuoteForMessage(line) +
                           " (WARC/1.0 and WARC/1.1 are read)");
     }
-    return Fail(at, "expected a WARC version line (\"WARC/1.1\"), found " + Quote(line));
+    return Fail(at, "expected a WARC version line (\"WARC/1.1\"), found " + QuoteForMessage(line));
   }
   rec->version = std::string(line);
 
@@ -210,7 +194,7 @@ bool WarcReader::Next(WarcRecord* rec) {
     if (line[0] == ' ' || line[0] == '\t') {
       // WARC 1.1 §4: LWS = [CRLF] 1*( SP | HT ) — a continuation line.
       if (rec->headers.empty()) {
-        return Fail(at, "bad header line: continuation line before any field: " + Quote(line));
+        return Fail(at, "bad header line: continuation line before any field: " + QuoteForMessage(line));
       }
       std::string& value = rec->headers.back().second;
       const std::string_view more = TrimLws(line);
@@ -222,12 +206,12 @@ bool WarcReader::Next(WarcRecord* rec) {
     }
     const size_t colon = line.find(':');
     if (colon == std::string_view::npos) {
-      return Fail(at, "bad header line: not a \"Name: value\" field: " + Quote(line));
+      return Fail(at, "bad header line: not a \"Name: value\" field: " + QuoteForMessage(line));
     }
     const std::string_view name = line.substr(0, colon);
     bool token = !name.empty();
     for (unsigned char c : name) token = token && IsTokenChar(c);
-    if (!token) return Fail(at, "bad header line: field name is not a token: " + Quote(line));
+    if (!token) return Fail(at, "bad header line: field name is not a token: " + QuoteForMessage(line));
     rec->headers.emplace_back(std::string(name), std::string(TrimLws(line.substr(colon + 1))));
     if (record_id_.empty() && EqualsIgnoreCase(name, "WARC-Record-ID")) {
       record_id_ = rec->headers.back().second;
@@ -239,8 +223,8 @@ bool WarcReader::Next(WarcRecord* rec) {
   for (const auto& [n, v] : rec->headers) {
     if (!EqualsIgnoreCase(n, "Content-Length")) continue;
     if (length && *length != v) {
-      return Fail(rec->offset, "conflicting Content-Length fields " + Quote(*length) + " and " +
-                                   Quote(v));
+      return Fail(rec->offset, "conflicting Content-Length fields " + QuoteForMessage(*length) + " and " +
+                                   QuoteForMessage(v));
     }
     length = &v;
   }
@@ -251,7 +235,7 @@ bool WarcReader::Next(WarcRecord* rec) {
     digits = digits && c >= '0' && c <= '9';
     if (digits) cl = cl * 10 + static_cast<uint64_t>(c - '0');
   }
-  if (!digits) return Fail(base_ + pos_, "invalid Content-Length " + Quote(*length));
+  if (!digits) return Fail(base_ + pos_, "invalid Content-Length " + QuoteForMessage(*length));
   rec->content_length = cl;
   if (!ReadBlock(rec)) return false;
 
@@ -265,7 +249,7 @@ bool WarcReader::Next(WarcRecord* rec) {
   if (std::memcmp(buf_.data() + pos_, "\r\n\r\n", 4) != 0) {
     return Fail(trailer_at, "missing CRLF CRLF after the block (Content-Length " +
                                 std::to_string(cl) + "), found " +
-                                Quote(std::string_view(buf_.data() + pos_, 4)));
+                                QuoteForMessage(std::string_view(buf_.data() + pos_, 4)));
   }
   pos_ += 4;
   return true;

@@ -1,3 +1,4 @@
+#include "index/quote.h"
 #include "index/warc_record.h"
 
 #include <zlib.h>
@@ -36,22 +37,6 @@ std::string_view TrimOws(std::string_view s) {
 
 bool IsDigit(char c) { return c >= '0' && c <= '9'; }
 
-std::string Quote(std::string_view s, size_t max = 40) {
-  static const char kHex[] = "0123456789abcdef";
-  std::string out = "\"";
-  for (size_t i = 0; i < s.size() && i < max; ++i) {
-    const unsigned char c = static_cast<unsigned char>(s[i]);
-    if (c >= 32 && c < 127 && c != '"' && c != '\\') {
-      out.push_back(static_cast<char>(c));
-    } else {
-      out += "\\x";
-      out.push_back(kHex[c >> 4]);
-      out.push_back(kHex[c & 15]);
-    }
-  }
-  out += s.size() > max ? "\"..." : "\"";
-  return out;
-}
 
 void AppendUtf8(uint32_t cp, std::string* out) {
   if (cp < 0x80) {
@@ -280,12 +265,12 @@ std::string Dechunk(std::string_view in, std::string* out, bool* cut) {
       } else {
         break;
       }
-      if (size > (uint64_t{1} << 40)) return "chunk size too large: " + Quote(line);
+      if (size > (uint64_t{1} << 40)) return "chunk size too large: " + QuoteForMessage(line);
       size = size * 16 + static_cast<uint64_t>(d);
     }
-    if (digits == 0) return "bad chunk-size line " + Quote(line);
+    if (digits == 0) return "bad chunk-size line " + QuoteForMessage(line);
     std::string_view rest = TrimOws(line.substr(i));
-    if (!rest.empty() && rest[0] != ';') return "bad chunk-size line " + Quote(line);
+    if (!rest.empty() && rest[0] != ';') return "bad chunk-size line " + QuoteForMessage(line);
     if (size == 0) return "";  // last-chunk; the trailer section is ignored
     const size_t avail = in.size() - pos;
     const size_t take = static_cast<size_t>(std::min<uint64_t>(size, avail));
@@ -494,7 +479,7 @@ Status ExtractWarcDocument(const WarcRecord& rec, WarcDocument* out, WarcSkip* s
     if (!ParseHttpResponse(rec.block, &r)) {
       std::string_view first = rec.block;
       first = first.substr(0, first.find('\n'));
-      return bad("malformed HTTP response: no status line (found " + Quote(first) + ")");
+      return bad("malformed HTTP response: no status line (found " + QuoteForMessage(first) + ")");
     }
     if (r.status != 200) {
       *skip = WarcSkip::kHttpStatus;
