@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cstring>
+#include <unordered_map>
 #include <vector>
 
 namespace shingleton {
@@ -23,6 +24,16 @@ bool EqualsIgnoreCase(std::string_view a, std::string_view b) {
     if (AsciiLower(a[i]) != AsciiLower(b[i])) return false;
   }
   return true;
+}
+
+// Membership in a constant set (lengths known at compile time, so most
+// comparisons stop at the size).
+template <size_t N>
+bool InSet(std::string_view name, const std::string_view (&names)[N]) {
+  for (std::string_view n : names) {
+    if (n == name) return true;
+  }
+  return false;
 }
 
 bool OneOf(std::string_view name, std::initializer_list<std::string_view> names) {
@@ -279,18 +290,16 @@ struct TagToken {
 };
 
 // WHATWG HTML §13.1.2: void elements (and the obsolete ones the parser treats alike).
-bool IsVoid(std::string_view n) {
-  return OneOf(n, {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta",
+constexpr std::string_view kIsVoidNames[] = {"area", "base", "br", "col", "embed", "hr", "img", "input", "link", "meta",
                    "source", "track", "wbr", "basefont", "bgsound", "frame", "keygen", "param",
-                   "image", "isindex", "menuitem"});
-}
+                   "image", "isindex", "menuitem"};
+bool IsVoid(std::string_view n) { return InSet(n, kIsVoidNames); }
 
 // Elements whose contents the tokenizer reads as text up to their end tag
 // (WHATWG HTML §13.2.5: RCDATA, RAWTEXT and script data states).
-bool IsRawText(std::string_view n) {
-  return OneOf(n, {"script", "style", "textarea", "title", "xmp", "iframe", "noembed",
-                   "noframes", "noscript"});
-}
+constexpr std::string_view kIsRawTextNames[] = {"script", "style", "textarea", "title", "xmp", "iframe", "noembed",
+                   "noframes", "noscript"};
+bool IsRawText(std::string_view n) { return InSet(n, kIsRawTextNames); }
 
 // Calls on_text(view) for text (with a lone '<' passed as "<") and
 // on_tag(TagToken, raw_text_contents) for tags; for raw-text elements the second
@@ -384,21 +393,18 @@ void Tokenize(std::string_view h, OnText on_text, OnTag on_tag) {
 }
 
 // WHATWG HTML §13.2.4.2: the element types that bound "has an element in scope".
-bool IsScopeMarker(std::string_view n) {
-  return OneOf(n, {"applet", "caption", "html", "table", "td", "th", "marquee", "object",
-                   "template"});
-}
+constexpr std::string_view kIsScopeMarkerNames[] = {"applet", "caption", "html", "table", "td", "th", "marquee", "object",
+                   "template"};
+bool IsScopeMarker(std::string_view n) { return InSet(n, kIsScopeMarkerNames); }
 
 // §13.2.4.3: the formatting elements (kept in the list of active formatting
 // elements and reconstructed after being closed implicitly).
-bool IsFormatting(std::string_view n) {
-  return OneOf(n, {"a", "b", "big", "code", "em", "font", "i", "nobr", "s", "small", "strike",
-                   "strong", "tt", "u"});
-}
+constexpr std::string_view kIsFormattingNames[] = {"a", "b", "big", "code", "em", "font", "i", "nobr", "s", "small", "strike",
+                   "strong", "tt", "u"};
+bool IsFormatting(std::string_view n) { return InSet(n, kIsFormattingNames); }
 
 // §13.2.4.2: the "special" category (HTML namespace part).
-bool IsSpecial(std::string_view n) {
-  return OneOf(n, {"address", "applet", "area", "article", "aside", "base", "basefont",
+constexpr std::string_view kIsSpecialNames[] = {"address", "applet", "area", "article", "aside", "base", "basefont",
                    "bgsound", "blockquote", "body", "br", "button", "caption", "center", "col",
                    "colgroup", "dd", "details", "dir", "div", "dl", "dt", "embed", "fieldset",
                    "figcaption", "figure", "footer", "form", "frame", "frameset", "h1", "h2",
@@ -408,18 +414,21 @@ bool IsSpecial(std::string_view n) {
                    "param", "plaintext", "pre", "script", "search", "section", "select",
                    "source", "style", "summary", "table", "tbody", "td", "template",
                    "textarea", "tfoot", "th", "thead", "title", "tr", "track", "ul", "wbr",
-                   "xmp"});
-}
+                   "xmp"};
+bool IsSpecial(std::string_view n) { return InSet(n, kIsSpecialNames); }
 
 // §13.2.6.4.7 ("in body"): start tags that close an open p element (in button
 // scope) and are inserted without reconstructing the active formatting elements.
-bool ClosesP(std::string_view n) {
-  return OneOf(n, {"address", "article", "aside", "blockquote", "center", "details", "dialog",
+constexpr std::string_view kClosesPNames[] = {"address", "article", "aside", "blockquote", "center", "details", "dialog",
                    "dir", "div", "dl", "fieldset", "figcaption", "figure", "footer", "header",
                    "hgroup", "main", "menu", "nav", "ol", "p", "search", "section", "summary",
                    "ul", "h1", "h2", "h3", "h4", "h5", "h6", "pre", "listing", "form", "li",
-                   "dd", "dt", "plaintext", "table", "hr", "xmp"});
-}
+                   "dd", "dt", "plaintext", "table", "hr", "xmp"};
+bool ClosesP(std::string_view n) { return InSet(n, kClosesPNames); }
+
+constexpr std::string_view kTablePartNames[] = {"caption", "col",   "colgroup", "tbody", "td",
+                                                "tfoot",   "th",    "thead",    "tr"};
+bool IsTablePart(std::string_view n) { return InSet(n, kTablePartNames); }
 
 // A model of the tree builder's stack of open elements, good enough to bound its
 // depth: implied end tags of p/li/dd/dt/td/th/tr/option, end tags popping to
@@ -439,15 +448,14 @@ class DepthModel {
   }
 
   bool Tag(const TagToken& tag) {
-    const std::string& n = tag.name;
+    const std::string_view n = tag.name;
     if (n == "html" || n == "head" || n == "body") return true;
     if (tag.end) {
       EndTag(n);
       return true;
     }
     if (IsRawText(n)) return true;  // pushed and popped with its contents
-    if (tables_ == 0 && OneOf(n, {"caption", "col", "colgroup", "tbody", "td", "tfoot", "th",
-                                  "thead", "tr"})) {
+    if (tables_ == 0 && IsTablePart(n)) {
       return true;  // "in body": table parts outside a table are ignored
     }
     if (IsVoid(n)) return ClosesP(n) ? true : Reconstruct();
@@ -465,7 +473,14 @@ class DepthModel {
   static constexpr size_t kNone = static_cast<size_t>(-1);
 
   // The index of the topmost `n` in scope, or kNone.
+  // How many elements named `n` are open (lets most searches stop at once).
+  int Count(std::string_view n) const {
+    const auto it = counts_.find(std::string(n));
+    return it == counts_.end() ? 0 : it->second;
+  }
+
   size_t Find(std::string_view n, bool stop_at_special) const {
+    if (Count(n) == 0) return kNone;
     for (size_t d = stack_.size(); d-- > 0;) {
       if (stack_[d] == n) return d;
       if (IsScopeMarker(stack_[d])) return kNone;
@@ -479,6 +494,9 @@ class DepthModel {
 
   size_t FindAny(std::initializer_list<std::string_view> names,
                  std::initializer_list<std::string_view> stops) const {
+    int open = 0;
+    for (std::string_view n : names) open += Count(n);
+    if (open == 0) return kNone;
     for (size_t d = stack_.size(); d-- > 0;) {
       if (OneOf(stack_[d], names)) return d;
       if (OneOf(stack_[d], stops)) return kNone;
@@ -486,7 +504,7 @@ class DepthModel {
     return kNone;
   }
 
-  void ImpliedEnds(const std::string& n) {
+  void ImpliedEnds(std::string_view n) {
     size_t d = kNone;
     if (ClosesP(n)) {
       // "close a p element" if one is in button scope.
@@ -515,7 +533,7 @@ class DepthModel {
     if (d != kNone) PopTo(d);
   }
 
-  void EndTag(const std::string& n) {
+  void EndTag(std::string_view n) {
     // Table parts close in table scope (through open cells), others in scope.
     const size_t d = OneOf(n, {"table", "tbody", "thead", "tfoot", "tr", "td", "th", "caption"})
                          ? FindAny({n}, {"html", "table", "template"})
@@ -535,6 +553,7 @@ class DepthModel {
     for (size_t k = stack_.size(); k-- > d;) {
       const std::string& name = stack_[k];
       if (name == "table") --tables_;
+      --counts_[name];
       if (IsScopeMarker(name)) {
         kept.clear();      // the list is cleared up to the marker
         pending_.clear();
@@ -546,13 +565,13 @@ class DepthModel {
     for (size_t k = kept.size(); k-- > 0;) AddPending(kept[k]);
   }
 
-  void AddPending(const std::string& n) {
+  void AddPending(std::string_view n) {
     int same = 0;
     for (const auto& p : pending_) same += p == n;
-    if (same < 3) pending_.push_back(n);
+    if (same < 3) pending_.emplace_back(n);
   }
 
-  void RemovePending(const std::string& n) {
+  void RemovePending(std::string_view n) {
     for (size_t k = pending_.size(); k-- > 0;) {
       if (pending_[k] == n) {
         pending_.erase(pending_.begin() + static_cast<std::ptrdiff_t>(k));
@@ -570,8 +589,9 @@ class DepthModel {
     return true;
   }
 
-  bool Push(const std::string& n) {
-    stack_.push_back(n);
+  bool Push(std::string_view n) {
+    stack_.emplace_back(n);
+    ++counts_[stack_.back()];
     if (n == "table") ++tables_;
     return stack_.size() <= limit_;
   }
@@ -579,7 +599,8 @@ class DepthModel {
   size_t limit_;
   std::vector<std::string> stack_;
   std::vector<std::string> pending_;
-  int tables_ = 0;   // table elements open
+  std::unordered_map<std::string, int> counts_;  // open elements by name
+  int tables_ = 0;  // table elements open
 };
 
 // Whether the tree builder's stack of open elements would grow beyond `limit`.
@@ -599,15 +620,14 @@ bool TooDeep(std::string_view html, size_t limit) {
   return too_deep;
 }
 
-bool FlatBlock(std::string_view n) {
-  return OneOf(n, {"address", "article", "aside", "blockquote", "br", "caption", "center", "dd",
+constexpr std::string_view kFlatBlockNames[] = {"address", "article", "aside", "blockquote", "br", "caption", "center", "dd",
                    "details", "dialog", "dir", "div", "dl", "dt", "fieldset", "figcaption",
                    "figure", "footer", "form", "frameset", "frame", "h1", "h2", "h3", "h4", "h5",
                    "h6", "header", "hgroup", "hr", "legend", "li", "listing", "main", "menu",
                    "nav", "ol", "optgroup", "option", "p", "plaintext", "pre", "search",
                    "section", "select", "summary", "table", "tbody", "textarea", "tfoot",
-                   "thead", "tr", "ul", "xmp"});
-}
+                   "thead", "tr", "ul", "xmp"};
+bool FlatBlock(std::string_view n) { return InSet(n, kFlatBlockNames); }
 
 // The document without its structure: text (character references still
 // encoded), "<br>" for block boundaries, " " between table cells.
@@ -616,14 +636,18 @@ std::string Flatten(std::string_view html) {
   out.reserve(html.size());
   int skip = 0;  // template elements open
   int pre = 0;   // pre and listing elements open: newlines are line breaks
-  auto append_escaped = [&out](std::string_view s) {
+  // Consecutive breaks make one line break anyway; emit one.
+  auto add_break = [&out] {
+    if (out.size() < 4 || out.compare(out.size() - 4, 4, "<br>") != 0) out += "<br>";
+  };
+  auto append_escaped = [&out, &add_break](std::string_view s) {
     for (char c : s) {
       if (c == '<') {
         out += "&lt;";
       } else if (c == '&') {
         out += "&amp;";
       } else if (c == '\n') {
-        out += "<br>";
+        add_break();
       } else {
         out.push_back(c);
       }
@@ -638,7 +662,7 @@ std::string Flatten(std::string_view html) {
         } else if (pre > 0) {
           for (char c : s) {
             if (c == '\n') {
-              out += "<br>";
+              add_break();
             } else {
               out.push_back(c);
             }
@@ -649,31 +673,32 @@ std::string Flatten(std::string_view html) {
         return true;
       },
       [&](const TagToken& tag, std::string_view contents) {
-        if (tag.name == "template") {
+        const std::string_view name = tag.name;
+        if (name == "template") {
           skip += tag.end ? (skip > 0 ? -1 : 0) : 1;
           return true;
         }
         if (skip > 0) return true;
-        if (tag.name == "pre" || tag.name == "listing") {
+        if (name == "pre" || name == "listing") {
           pre += tag.end ? (pre > 0 ? -1 : 0) : 1;
         }
-        if (tag.name == "td" || tag.name == "th") {
+        if (name == "td" || name == "th") {
           out.push_back(' ');
-        } else if (FlatBlock(tag.name)) {
-          out += "<br>";
+        } else if (FlatBlock(name)) {
+          add_break();
         }
         if (!tag.end) {
-          if (tag.name == "textarea") {  // RCDATA: references are decoded
+          if (name == "textarea") {  // RCDATA: references are decoded
             for (char c : contents) {
               if (c == '<') {
                 out += "&lt;";
               } else if (c == '\n') {
-                out += "<br>";
+                add_break();
               } else {
                 out.push_back(c);
               }
             }
-          } else if (tag.name == "xmp" || tag.name == "plaintext") {  // RAWTEXT: literal
+          } else if (name == "xmp" || name == "plaintext") {  // RAWTEXT: literal
             append_escaped(contents);
           }
         }
@@ -731,18 +756,19 @@ std::string WithoutForeignContent(std::string_view h) {
   Tokenize(
       h, [](std::string_view) { return true; },
       [&](const TagToken& tag, std::string_view) {
-        if (tag.name != "svg" && tag.name != "math") return true;
+        const std::string_view name = tag.name;
+        if (name != "svg" && name != "math") return true;
         const Range r{tag.begin, tag.end_offset};
         if (!tag.end) {
           if (tag.self_closing) {
             cut.push_back(r);
           } else {
-            open.push_back({tag.name, r});
+            open.push_back({std::string(name), r});
           }
           return true;
         }
         for (size_t k = open.size(); k-- > 0;) {
-          if (open[k].name == tag.name) {
+          if (open[k].name == name) {
             cut.push_back({open[k].tag.begin, r.end});  // the element with its contents
             open.resize(k);
             return true;
