@@ -37,6 +37,8 @@
 
 #include <CLI/CLI.hpp>
 
+#include "index/json_writer.h"
+
 namespace shingleton_demo {
 namespace {
 
@@ -2054,57 +2056,13 @@ std::string MakeUrl(const Doc& doc, uint32_t page_no) {
   return url;
 }
 
-// Bytes that JSON requires escaping: control characters, '"' and '\\'.
-struct JsonEscapeTable {
-  bool needs[256] = {};
-  JsonEscapeTable() {
-    for (int c = 0; c < 0x20; ++c) needs[c] = true;
-    needs[static_cast<unsigned char>('"')] = true;
-    needs[static_cast<unsigned char>('\\')] = true;
-  }
-};
-
-// Writes `s` (valid UTF-8) as a JSON string; non-ASCII stays raw UTF-8.
+// Writes `s` (valid UTF-8) as a JSON string with the library's escaping
+// (index/json_writer.h); non-ASCII stays raw UTF-8.
 void AppendJsonString(std::string_view s, ByteBuffer* out) {
-  static const JsonEscapeTable kEscape;
-  static const char kHex[] = "0123456789abcdef";
-  out->push_back('"');
-  size_t start = 0;
-  for (size_t i = 0; i < s.size(); ++i) {
-    const unsigned char c = static_cast<unsigned char>(s[i]);
-    if (!kEscape.needs[c]) continue;
-    out->append(s.data() + start, i - start);
-    start = i + 1;
-    switch (c) {
-      case '"':
-        out->append("\\\"");
-        break;
-      case '\\':
-        out->append("\\\\");
-        break;
-      case '\n':
-        out->append("\\n");
-        break;
-      case '\r':
-        out->append("\\r");
-        break;
-      case '\t':
-        out->append("\\t");
-        break;
-      case '\b':
-        out->append("\\b");
-        break;
-      case '\f':
-        out->append("\\f");
-        break;
-      default:
-        out->append("\\u00");
-        out->push_back(kHex[c >> 4]);
-        out->push_back(kHex[c & 15]);
-    }
-  }
-  out->append(s.data() + start, s.size() - start);
-  out->push_back('"');
+  thread_local std::string scratch;
+  scratch.clear();
+  shingleton::AppendJsonString(&scratch, s);
+  out->append(scratch.data(), scratch.size());
 }
 
 // ---------------------------------------------------------------------------

@@ -8,7 +8,12 @@ namespace shingleton {
 void AppendJsonString(std::string* out, std::string_view s) {
   static const char kHex[] = "0123456789abcdef";
   out->push_back('"');
-  for (unsigned char c : s) {
+  size_t start = 0;  // first byte not yet copied; runs without escapes are copied at once
+  for (size_t i = 0; i < s.size(); ++i) {
+    const unsigned char c = static_cast<unsigned char>(s[i]);
+    if (c >= 0x20 && c != '"' && c != '\\') continue;
+    out->append(s.data() + start, i - start);
+    start = i + 1;
     switch (c) {
       case '"': out->append("\\\""); break;
       case '\\': out->append("\\\\"); break;
@@ -18,15 +23,12 @@ void AppendJsonString(std::string* out, std::string_view s) {
       case '\b': out->append("\\b"); break;
       case '\f': out->append("\\f"); break;
       default:
-        if (c < 0x20) {
-          out->append("\\u00");
-          out->push_back(kHex[c >> 4]);
-          out->push_back(kHex[c & 15]);
-        } else {
-          out->push_back(static_cast<char>(c));
-        }
+        out->append("\\u00");
+        out->push_back(kHex[c >> 4]);
+        out->push_back(kHex[c & 15]);
     }
   }
+  out->append(s.data() + start, s.size() - start);
   out->push_back('"');
 }
 

@@ -56,15 +56,22 @@ std::map<std::string, DropLine> ReadDrops(const std::string& out_dir) {
   return drops;
 }
 
+// Deduplicates `input` into `job_dir`, then freezes it as generation `name` at `ref_dir`.
+StatusOr<GenerationRecord> DedupAndFreeze(const std::string& input, const std::string& job_dir,
+                                          const std::string& ref_dir, const std::string& name) {
+  auto job = RunDedupJob(Job(input, job_dir));
+  if (!job.ok()) return job.status();
+  FreezeOptions fo;
+  fo.index_path = job_dir + "/index";
+  fo.out_dir = ref_dir;
+  fo.name = name;
+  return FreezeGeneration(fo);
+}
+
 TEST(ReferenceTest, NewCrawlAgainstFrozenReference) {
   TempDir dir;
   SplitInTwo(dir);
-  ASSERT_TRUE(RunDedupJob(Job(dir.File("old.jsonl"), dir.File("old"))).ok());
-  FreezeOptions fo;
-  fo.index_path = dir.File("old/index");
-  fo.out_dir = dir.File("ref");
-  fo.name = "crawl-2026-10";
-  auto rec = FreezeGeneration(fo);
+  auto rec = DedupAndFreeze(dir.File("old.jsonl"), dir.File("old"), dir.File("ref"), "crawl-2026-10");
   ASSERT_TRUE(rec.ok()) << rec.status().ToString();
   const Manifests old = ReadManifests(dir.File("old"));
   EXPECT_EQ(rec->documents, old.kept.size());
@@ -122,12 +129,7 @@ TEST(ReferenceTest, NewCrawlAgainstFrozenReference) {
 TEST(ReferenceTest, SchemeMismatchIsRefusedAndGenerationsStack) {
   TempDir dir;
   SplitInTwo(dir);
-  ASSERT_TRUE(RunDedupJob(Job(dir.File("old.jsonl"), dir.File("old"))).ok());
-  FreezeOptions fo;
-  fo.index_path = dir.File("old/index");
-  fo.out_dir = dir.File("ref1");
-  fo.name = "gen-1";
-  ASSERT_TRUE(FreezeGeneration(fo).ok());
+  ASSERT_TRUE(DedupAndFreeze(dir.File("old.jsonl"), dir.File("old"), dir.File("ref1"), "gen-1").ok());
 
   DedupOptions other = Job(dir.File("new.jsonl"), dir.File("x"));
   other.num_hashes = 64;
@@ -142,6 +144,7 @@ TEST(ReferenceTest, SchemeMismatchIsRefusedAndGenerationsStack) {
   DedupOptions two = Job(dir.File("new.jsonl"), dir.File("two"));
   two.references = {dir.File("ref1")};
   ASSERT_TRUE(RunDedupJob(two).ok());
+  FreezeOptions fo;
   fo.index_path = dir.File("two/index");
   fo.out_dir = dir.File("ref2");
   fo.name = "gen-2";
@@ -213,11 +216,7 @@ TEST(ReferenceTest, UrlRevisitsAndExactFastPath) {
 TEST(ReferenceTest, WarcCrawlDecidesLikeJsonl) {
   TempDir dir;
   SplitInTwo(dir);
-  ASSERT_TRUE(RunDedupJob(Job(dir.File("old.jsonl"), dir.File("old"))).ok());
-  FreezeOptions fo;
-  fo.index_path = dir.File("old/index");
-  fo.out_dir = dir.File("ref");
-  ASSERT_TRUE(FreezeGeneration(fo).ok());
+  ASSERT_TRUE(DedupAndFreeze(dir.File("old.jsonl"), dir.File("old"), dir.File("ref"), "ref").ok());
   const Corpus fresh = ReadJsonlCorpus(dir.File("new.jsonl"));
   const std::string warc = dir.File("new.warc.gz");
   for (size_t i = 0; i < fresh.ids.size(); ++i) {
