@@ -14,5 +14,7 @@ void AddFinalizeCommand(CLI::App* app, int* rc);
 void AddHealthCommand(CLI::App* app, int* rc);
 void AddQueryCommand(CLI::App* app, int* rc);
 void AddFreezeCommand(CLI::App* app, int* rc);
+void AddInspectCommand(CLI::App* app, int* rc);
+void AddTuneCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

@@ -1,5 +1,7 @@
 #include "client/job_flags.h"
 
+#include <cstdint>
+
 namespace shingleton::cli {
 
 void AddJobFlags(CLI::App* cmd, JobFlags* flags) {
@@ -46,6 +48,9 @@ void AddJobFlags(CLI::App* cmd, JobFlags* flags) {
   cmd->add_option("--excerpt-bytes", o.ingest.excerpt_bytes,
                   "Bytes of each text kept in the index as an audit excerpt; 0 keeps none")
       ->capture_default_str();
+  cmd->add_flag("--store-text", flags->store_text,
+                "Keep each whole text in the index for audit (inspect diff, exact Jaccard in "
+                "inspect cluster) instead of the --excerpt-bytes excerpt [default: off]");
   cmd->add_option("--all-pairs-limit", o.all_pairs_limit,
                   "Buckets up to this size verify every pair; larger ones compare with leaders")
       ->capture_default_str();
@@ -57,6 +62,7 @@ Status ApplyJobFlags(JobFlags* f) {
   DedupOptions& o = f->options;
   SHINGLETON_ASSIGN_OR_RETURN(o.shingle_kind, ParseShingleKind(f->shingle));
   SHINGLETON_ASSIGN_OR_RETURN(o.policy, KeepPolicy::Parse(f->keep));
+  if (f->store_text) o.ingest.excerpt_bytes = SIZE_MAX;
   if (o.policy.kind() == KeepPolicy::Kind::kField) o.ingest.fields.rank = o.policy.field();
   if (!f->seed_text.empty()) {
     char* end = nullptr;

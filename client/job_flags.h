@@ -17,6 +17,7 @@ struct JobFlags {
   std::string shingle = "word";
   std::string keep = "longest";
   std::string seed_text;
+  bool store_text = false;
 };
 
 // Registers --threshold, --threads, the field names, the sketch scheme, --keep,

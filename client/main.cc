@@ -19,6 +19,8 @@ int main(int argc, char** argv) {
   shingleton::cli::AddFinalizeCommand(&app, &rc);
   shingleton::cli::AddQueryCommand(&app, &rc);
   shingleton::cli::AddHealthCommand(&app, &rc);
+  shingleton::cli::AddInspectCommand(&app, &rc);
+  shingleton::cli::AddTuneCommand(&app, &rc);
   CLI11_PARSE(app, argc, argv);
   return rc;
 }

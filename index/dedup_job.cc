@@ -320,6 +320,10 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   report("clusters");
   t = Clock::now();
   std::vector<Decision> decisions = ResolveClusters(table, edges, o.policy);
+  if (o.chain_guard) {
+    summary.chain_guard =
+        GuardChains(table, o.policy, o.chain_bound > 0 ? o.chain_bound : o.threshold, &decisions);
+  }
   std::vector<ManifestRow> rows = ManifestRows(table, decisions);
   if (refs) ApplyReferenceMatches(*refs, matches, &decisions, &rows);
   CountDecisions(decisions, &summary);
@@ -416,6 +420,16 @@ std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
   count("buckets_checked", s.buckets_checked);
   count("comparisons", s.comparisons);
   count("edges", s.edges);
+  if (o.chain_guard) {
+    w.Key("chain_guard");
+    w.BeginObject();
+    w.Key("bound");
+    w.Double(o.chain_bound > 0 ? o.chain_bound : o.threshold, 4);
+    count("clusters_guarded", s.chain_guard.clusters_guarded);
+    count("members_kept", s.chain_guard.members_kept);
+    count("members_moved", s.chain_guard.members_moved);
+    w.EndObject();
+  }
   count("text_bytes", s.text_bytes);
   w.Key("seconds");
   w.BeginObject();

@@ -23,6 +23,7 @@
 #include <vector>
 
 #include "index/candidates.h"
+#include "index/chain_guard.h"
 #include "index/ingest_pipeline.h"
 #include "index/keep_policy.h"
 #include "index/record_parser.h"
@@ -64,6 +65,11 @@ struct DedupOptions {
   // Drop a document whose normalised URL is in a reference generation (a re-crawl),
   // with reason "url". Default: false.
   bool url_revisits = false;
+  // Chain guard (chain_guard.h): re-assign the members of clusters whose spread is
+  // below chain_bound so every drop is similar to its own kept document; 0 means
+  // the threshold. Default: off.
+  bool chain_guard = false;
+  double chain_bound = 0;
   ProgressFn progress;             // called from the job's threads, at most ~5 times/s
 };
 
@@ -91,6 +97,7 @@ struct DedupSummary {
   uint64_t buckets_checked = 0;  // buckets with >= 2 documents
   uint64_t comparisons = 0;      // signature comparisons
   uint64_t edges = 0;            // verified, distinct pairs
+  ChainGuardResult chain_guard;  // with DedupOptions::chain_guard
   double seconds_read = 0, seconds_candidates = 0, seconds_clusters = 0, seconds_write = 0;
   double seconds_total = 0;
   uint64_t skipped_total() const;

@@ -13,6 +13,7 @@
 #include "index/clusters.h"
 #include "index/dedup_job.h"
 #include "index/doc_table.h"
+#include "index/inspect_report.h"
 #include "index/manifest.h"
 #include "index/minhash.h"
 #include "index/partition.h"
@@ -533,6 +534,43 @@ grpc::ServerUnaryReactor* CoordinatorService::GetJobStats(grpc::CallbackServerCo
     return reactor;
   }
   pool_->Submit([this, req, resp, reactor] { reactor->Finish(ToGrpcStatus(DoJobStats(*req, resp))); });
+  return reactor;
+}
+
+Status CoordinatorService::DoInspect(const v1::InspectRequest& req, v1::InspectResponse* resp) {
+  SHINGLETON_ASSIGN_OR_RETURN(Job * job, GetJob(req.job()));
+  if (!job->store->GetJobRecord().ok()) {
+    return Status::NotFound("job " + job->name + " is not finalized; nothing to inspect yet");
+  }
+  InspectCommand c;
+  c.command = req.command();
+  if (c.command == "query") return Status::InvalidArgument("text queries use the Query RPC");
+  c.args.assign(req.args().begin(), req.args().end());
+  if (req.min_size() > 0) c.clusters.min_size = req.min_size();
+  c.clusters.sort_by_spread = req.sort_by_spread();
+  if (req.spread_below() > 0) c.clusters.spread_below = req.spread_below();
+  c.clusters.chains_only = req.chains_only();
+  c.clusters.limit = req.limit();
+  if (c.command == "explain" && req.limit() > 0) c.max_candidates = req.limit();
+  ReportStyle style;
+  if (req.width() > 0) style.width = static_cast<int>(req.width());
+  style.side_by_side = req.side_by_side();
+  const Inspector inspector(job->store.get());
+  SHINGLETON_ASSIGN_OR_RETURN(std::string report, RunInspection(inspector, c, style, req.json()));
+  resp->set_report(std::move(report));
+  return Status::Ok();
+}
+
+grpc::ServerUnaryReactor* CoordinatorService::Inspect(grpc::CallbackServerContext* ctx,
+                                                      const v1::InspectRequest* req,
+                                                      v1::InspectResponse* resp) {
+  auto* reactor = ctx->DefaultReactor();
+  grpc::Status auth = CheckToken(ctx, options_.token);
+  if (!auth.ok()) {
+    reactor->Finish(auth);
+    return reactor;
+  }
+  pool_->Submit([this, req, resp, reactor] { reactor->Finish(ToGrpcStatus(DoInspect(*req, resp))); });
   return reactor;
 }
 

@@ -57,6 +57,8 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
   grpc::ServerUnaryReactor* GetJobStats(grpc::CallbackServerContext* ctx,
                                         const v1::JobStatsRequest* req,
                                         v1::JobStats* resp) override;
+  grpc::ServerUnaryReactor* Inspect(grpc::CallbackServerContext* ctx, const v1::InspectRequest* req,
+                                    v1::InspectResponse* resp) override;
 
   void FlushAll();
   ThreadPool& pool() { return *pool_; }
@@ -67,6 +69,7 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
   Status DoQuery(const v1::QueryRequest& req, v1::QueryResponse* resp);
   StatusOr<std::vector<v1::FinalizeResponse>> DoFinalize(const v1::FinalizeRequest& req);
   Status DoJobStats(const v1::JobStatsRequest& req, v1::JobStats* resp);
+  Status DoInspect(const v1::InspectRequest& req, v1::InspectResponse* resp);
 
  private:
   struct Job {

@@ -19,29 +19,8 @@ using namespace shingleton::testing;
 const std::string kCorpus = std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/crawl-2026-11.jsonl";
 const std::string kTruth = std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/truth.tsv";
 
-struct Truth {
-  std::string family, role, kind;
-  double edit_rate = 0;
-};
-
-std::map<std::string, Truth> ReadTruth() {
-  std::map<std::string, Truth> out;
-  std::ifstream in(kTruth);
-  std::string line;
-  std::getline(in, line);  // header
-  while (std::getline(in, line)) {
-    std::istringstream f(line);
-    std::string id;
-    Truth t;
-    std::getline(f, id, '\t');
-    std::getline(f, t.family, '\t');
-    std::getline(f, t.role, '\t');
-    std::getline(f, t.kind, '\t');
-    f >> t.edit_rate;
-    out[id] = t;
-  }
-  return out;
-}
+using Truth = TruthRow;
+std::map<std::string, Truth> ReadTruth() { return ReadDemoTruth(); }
 
 class DemoTruthTest : public ::testing::Test {
  protected:

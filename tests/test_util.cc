@@ -81,6 +81,53 @@ Manifests ReadManifests(const std::string& out_dir) {
   return m;
 }
 
+std::vector<ManifestLine> ReadManifestLines(const std::string& path) {
+  std::vector<ManifestLine> out;
+  simdjson::dom::parser parser;
+  std::ifstream in(path);
+  EXPECT_TRUE(in.good()) << "missing " << path;
+  for (std::string line; std::getline(in, line);) {
+    simdjson::dom::element e;
+    if (parser.parse(line).get(e)) {
+      ADD_FAILURE() << path << ": bad line " << line;
+      continue;
+    }
+    ManifestLine m;
+    std::string_view v;
+    uint64_t n;
+    double d;
+    if (!e["id"].get(v)) m.id = std::string(v);
+    if (!e["duplicate_of"].get(v)) m.duplicate_of = std::string(v);
+    if (!e["cluster"].get(v)) m.cluster = std::string(v);
+    if (!e["reason"].get(v)) m.reason = std::string(v);
+    if (!e["similarity"].get(d)) m.similarity = d;
+    if (!e["cluster_size"].get(n)) m.cluster_size = static_cast<unsigned>(n);
+    out.push_back(std::move(m));
+  }
+  return out;
+}
+
+std::string DemoCorpusPath() { return std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/crawl-2026-11.jsonl"; }
+
+std::map<std::string, TruthRow> ReadDemoTruth() {
+  std::map<std::string, TruthRow> out;
+  std::ifstream in(std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/truth.tsv");
+  std::string line;
+  std::getline(in, line);  // header
+  while (std::getline(in, line)) {
+    std::istringstream f(line);
+    std::string id;
+    TruthRow t;
+    std::getline(f, id, '\t');
+    std::getline(f, t.family, '\t');
+    std::getline(f, t.role, '\t');
+    std::getline(f, t.kind, '\t');
+    f >> t.edit_rate;
+    out[id] = t;
+  }
+  return out;
+}
+
 std::string CommonLicense(const std::string& name) {
   return ReadFile("/usr/share/common-licenses/" + name);
 }

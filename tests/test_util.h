@@ -38,6 +38,22 @@ struct Manifests {
 };
 Manifests ReadManifests(const std::string& out_dir);
 
+// One line of every row of a manifest, with all fields (see index/manifest.h).
+struct ManifestLine {
+  std::string id, duplicate_of, cluster, reason;  // duplicate_of, reason: drops only
+  double similarity = 1;
+  unsigned cluster_size = 1;                      // kept only
+};
+std::vector<ManifestLine> ReadManifestLines(const std::string& path);
+
+// demo_data/truth.tsv: id -> planted family, role, kind, edit rate.
+struct TruthRow {
+  std::string family, role, kind;
+  double edit_rate = 0;
+};
+std::map<std::string, TruthRow> ReadDemoTruth();
+std::string DemoCorpusPath();
+
 // Reads a text file of Debian's /usr/share/common-licenses.
 std::string CommonLicense(const std::string& name);
 
