@@ -333,5 +333,51 @@ TEST(ServiceTest, RefusesPlaintextBeyondLoopback) {
   EXPECT_NE(r.output.find("without credentials"), std::string::npos) << r.output;
 }
 
+// `inspect --coordinator` answers from the coordinator's job store with the same
+// library code as `inspect --index` on the embedded job's index: the same
+// clusters, members and decisions (the decisions are equal, see above).
+TEST(ServiceTest, InspectThroughTheCoordinatorMatchesTheIndex) {
+  TempDir dir;
+  LocalCluster cluster(dir, 2);
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  const std::vector<std::string> remote = {"--coordinator", cluster.coordinator(), "--job", "demo"};
+  auto inspect = [](std::vector<std::string> args, const std::vector<std::string>& where) {
+    args.insert(args.begin(), "inspect");
+    args.insert(args.end(), where.begin(), where.end());
+    RunResult r = RunShingleton(args);
+    EXPECT_EQ(r.exit_code, 0) << r.output;
+    return r.output;
+  };
+  RunResult early = RunShingleton({"inspect", "stats", "--coordinator", cluster.coordinator(), "--job", "demo"});
+  EXPECT_EQ(early.exit_code, 1);
+  ASSERT_EQ(RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo", "--input", kCorpus})
+                .exit_code,
+            0);
+  RunResult not_final = RunShingleton({"inspect", "stats", "--coordinator", cluster.coordinator(), "--job", "demo"});
+  EXPECT_EQ(not_final.exit_code, 1);
+  EXPECT_NE(not_final.output.find("not finalized"), std::string::npos) << not_final.output;
+  ASSERT_EQ(RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo", "--out",
+                           dir.File("service")})
+                .exit_code,
+            0);
+  EmbeddedDecisions(dir);
+  const std::vector<std::string> local = {"--index", dir.File("embedded") + "/index"};
+  EXPECT_EQ(inspect({"clusters", "--limit", "0"}, remote), inspect({"clusters", "--limit", "0"}, local));
+  EXPECT_EQ(inspect({"clusters", "--chains"}, remote), inspect({"clusters", "--chains"}, local));
+  const auto drops = ReadManifestLines(dir.File("service") + "/drop.jsonl");
+  ASSERT_FALSE(drops.empty());
+  EXPECT_EQ(inspect({"cluster", drops[0].cluster}, remote), inspect({"cluster", drops[0].cluster}, local));
+  const std::string json = inspect({"explain", drops[0].id, "--json"}, remote);
+  EXPECT_NE(json.find("\"duplicate_of\":\"" + drops[0].duplicate_of + "\""), std::string::npos) << json;
+  EXPECT_NE(json.find("\"reason\":\"" + drops[0].reason + "\""), std::string::npos) << json;
+  const std::string stats = inspect({"stats", "--json"}, remote);
+  EXPECT_NE(stats.find("\"documents\":2500,"), std::string::npos) << stats;
+  const Corpus corpus = ReadJsonlCorpus(kCorpus);
+  WriteFile(dir.File("page.txt"), corpus.texts[17]);
+  const std::string hits = inspect({"query", "--text-file", dir.File("page.txt")}, remote);
+  EXPECT_NE(hits.find(corpus.ids[17] + "  1.0000"), std::string::npos) << hits;
+  EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
+}
+
 }  // namespace
 }  // namespace shingleton

@@ -165,7 +165,7 @@ TEST(TuneTest, LabelsMeasuredNextToPredicted) {
     last_recall = recall;
     std::printf("t=%.2f recall measured %.4f predicted %.4f\n", t, recall, double(row["predicted_recall"]));
     // The model (S-curve x binomial estimate, tuning.h) on the pairs' exact Jaccard
-    // predicts the measured recall; 0.05 is our tolerance for 546 pairs.
+    // predicts the measured recall; 0.05 is our tolerance for the demo's few hundred pairs.
     EXPECT_NEAR(recall, double(row["predicted_recall"]), 0.05) << "t = " << t;
   }
   EXPECT_EQ(rows, 7u);  // t - 0.2 .. t + 0.1 by 0.05
