@@ -29,30 +29,21 @@ struct TuneFlags {
 
 void LayoutJson(JsonWriter* w, const LayoutRow& r) {
   w->BeginObject();
-  w->Key("bands");
-  w->Int(r.banding.bands);
-  w->Key("rows");
-  w->Int(r.banding.rows);
-  w->Key("false_positive_area");
-  w->Double(r.banding.false_positive_area, 6);
-  w->Key("false_negative_area");
-  w->Double(r.banding.false_negative_area, 6);
-  w->Key("cost");
-  w->Double(r.cost, 6);
-  w->Key("p_at_threshold");
-  w->Double(r.p_at_threshold, 6);
+  w->FieldInt("bands", r.banding.bands);
+  w->FieldInt("rows", r.banding.rows);
+  w->FieldDouble("false_positive_area", r.banding.false_positive_area, 6);
+  w->FieldDouble("false_negative_area", r.banding.false_negative_area, 6);
+  w->FieldDouble("cost", r.cost, 6);
+  w->FieldDouble("p_at_threshold", r.p_at_threshold, 6);
   w->EndObject();
 }
 
 std::string TuneJson(const TuneReport& r, const LabelReport* labels) {
   JsonWriter w;
   w.BeginObject();
-  w.Key("threshold");
-  w.Double(r.options.threshold, 4);
-  w.Key("hashes");
-  w.Int(r.options.num_hashes);
-  w.Key("fp_weight");
-  w.Double(r.options.fp_weight, 4);
+  w.FieldDouble("threshold", r.options.threshold, 4);
+  w.FieldInt("hashes", r.options.num_hashes);
+  w.FieldDouble("fp_weight", r.options.fp_weight, 4);
   w.Key("best");
   LayoutJson(&w, r.best);
   w.Key("alternatives");
@@ -63,44 +54,30 @@ std::string TuneJson(const TuneReport& r, const LabelReport* labels) {
   w.BeginArray();
   for (const CurvePoint& p : r.curve) {
     w.BeginObject();
-    w.Key("s");
-    w.Double(p.s, 2);
-    w.Key("p");
-    w.Double(p.p, 6);
+    w.FieldDouble("s", p.s, 2);
+    w.FieldDouble("p", p.p, 6);
     w.EndObject();
   }
   w.EndArray();
   if (labels) {
     w.Key("labels");
     w.BeginObject();
-    w.Key("scheme");
-    w.String(labels->scheme);
-    w.Key("pairs");
-    w.Uint(labels->pairs);
-    w.Key("unknown_ids");
-    w.Uint(labels->unknown_ids);
-    w.Key("similarity_source");
-    w.String(labels->similarity_source);
+    w.Field("scheme", labels->scheme);
+    w.FieldUint("pairs", labels->pairs);
+    w.FieldUint("unknown_ids", labels->unknown_ids);
+    w.Field("similarity_source", labels->similarity_source);
     w.Key("rows");
     w.BeginArray();
     for (const MeasuredRow& m : labels->rows) {
       w.BeginObject();
-      w.Key("threshold");
-      w.Double(m.threshold, 4);
-      w.Key("true_pairs");
-      w.Uint(m.true_pairs);
-      w.Key("detected");
-      w.Uint(m.detected);
-      w.Key("true_detected");
-      w.Uint(m.true_detected);
-      w.Key("precision");
-      w.Double(m.precision, 4);
-      w.Key("recall");
-      w.Double(m.recall, 4);
-      w.Key("predicted_precision");
-      w.Double(m.predicted_precision, 4);
-      w.Key("predicted_recall");
-      w.Double(m.predicted_recall, 4);
+      w.FieldDouble("threshold", m.threshold, 4);
+      w.FieldUint("true_pairs", m.true_pairs);
+      w.FieldUint("detected", m.detected);
+      w.FieldUint("true_detected", m.true_detected);
+      w.FieldDouble("precision", m.precision, 4);
+      w.FieldDouble("recall", m.recall, 4);
+      w.FieldDouble("predicted_precision", m.predicted_precision, 4);
+      w.FieldDouble("predicted_recall", m.predicted_recall, 4);
       w.EndObject();
     }
     w.EndArray();

@@ -39,39 +39,27 @@ std::string DecisionText(const DecisionInfo& d, const ReportStyle& style) {
 }
 
 void DocFields(JsonWriter* w, const DocInfo& d) {
-  w->Key("id");
-  w->String(d.id);
-  w->Key("key");
-  w->String(ClusterLabel(d.key));
-  w->Key("url");
-  w->String(d.url);
-  w->Key("source");
-  w->String(d.source);
-  w->Key("text_bytes");
-  w->Uint(d.text_bytes);
-  w->Key("tokens");
-  w->Uint(d.tokens);
-  w->Key("full_text");
-  w->Bool(d.full_text);
+  w->Field("id", d.id);
+  w->Field("key", ClusterLabel(d.key));
+  w->Field("url", d.url);
+  w->Field("source", d.source);
+  w->FieldUint("text_bytes", d.text_bytes);
+  w->FieldUint("tokens", d.tokens);
+  w->FieldBool("full_text", d.full_text);
 }
 
 void DecisionFields(JsonWriter* w, const DecisionInfo& d) {
-  w->Key("kept");
-  w->Bool(d.kept);
+  w->FieldBool("kept", d.kept);
   w->Key("duplicate_of");
   if (d.kept) {
     w->Null();
   } else {
     w->String(d.duplicate_of);
   }
-  w->Key("reason");
-  w->String(d.reason);
-  w->Key("cluster");
-  w->String(d.cluster);
-  w->Key("cluster_size");
-  w->Uint(d.cluster_size);
-  w->Key("similarity");
-  w->Double(d.similarity, 4);
+  w->Field("reason", d.reason);
+  w->Field("cluster", d.cluster);
+  w->FieldUint("cluster_size", d.cluster_size);
+  w->FieldDouble("similarity", d.similarity, 4);
 }
 
 std::string BandList(const std::vector<int>& bands) {
@@ -218,39 +206,30 @@ std::string StatsTable(const StatsReport& r, const ReportStyle& style) {
 std::string StatsJson(const StatsReport& r) {
   JsonWriter w;
   w.BeginObject();
-  w.Key("index");
-  w.String(r.index_path);
-  w.Key("scheme");
-  w.String(r.scheme);
-  w.Key("threshold");
-  w.Double(r.threshold, 4);
-  w.Key("keep_policy");
-  w.String(r.keep_policy);
+  w.Field("index", r.index_path);
+  w.Field("scheme", r.scheme);
+  w.FieldDouble("threshold", r.threshold, 4);
+  w.Field("keep_policy", r.keep_policy);
   for (const auto& [k, v] : std::vector<std::pair<const char*, uint64_t>>{
            {"documents", r.documents}, {"kept", r.kept}, {"dropped", r.dropped},
            {"clusters", r.clusters}, {"largest_cluster", r.largest_cluster},
            {"chained_clusters", r.chained_clusters}, {"edges", r.edges},
            {"full_text_documents", r.full_text_documents}, {"bytes_on_disk", r.bytes_on_disk}}) {
-    w.Key(k);
-    w.Uint(v);
+    w.FieldUint(k, v);
   }
-  w.Key("bytes_per_document");
-  w.Double(r.documents ? static_cast<double>(r.bytes_on_disk) / r.documents : 0, 1);
+  w.FieldDouble("bytes_per_document", r.documents ? static_cast<double>(r.bytes_on_disk) / r.documents : 0, 1);
   w.Key("dropped_by_reason");
   w.BeginObject();
   for (const auto& [reason, n] : r.dropped_by_reason) {
-    w.Key(reason);
-    w.Uint(n);
+    w.FieldUint(reason, n);
   }
   w.EndObject();
   w.Key("cluster_sizes");
   w.BeginArray();
   for (const auto& [bin, n] : r.size_histogram) {
     w.BeginObject();
-    w.Key("size");
-    w.String(bin);
-    w.Key("clusters");
-    w.Uint(n);
+    w.Field("size", bin);
+    w.FieldUint("clusters", n);
     w.EndObject();
   }
   w.EndArray();
@@ -270,14 +249,10 @@ std::string ClustersJson(const std::vector<ClusterRow>& rows) {
   w.BeginArray();
   for (const ClusterRow& r : rows) {
     w.BeginObject();
-    w.Key("cluster");
-    w.String(r.cluster);
-    w.Key("size");
-    w.Uint(r.size);
-    w.Key("spread");
-    w.Double(r.spread, 4);
-    w.Key("kept_id");
-    w.String(r.kept_id);
+    w.Field("cluster", r.cluster);
+    w.FieldUint("size", r.size);
+    w.FieldDouble("spread", r.spread, 4);
+    w.Field("kept_id", r.kept_id);
     w.EndObject();
   }
   w.EndArray();
@@ -306,14 +281,10 @@ std::string ClusterTable(const ClusterReport& r, const ReportStyle& style) {
 std::string ClusterJson(const ClusterReport& r) {
   JsonWriter w;
   w.BeginObject();
-  w.Key("cluster");
-  w.String(r.summary.cluster);
-  w.Key("kept_id");
-  w.String(r.summary.kept_id);
-  w.Key("size");
-  w.Uint(r.summary.size);
-  w.Key("spread");
-  w.Double(r.summary.spread, 4);
+  w.Field("cluster", r.summary.cluster);
+  w.Field("kept_id", r.summary.kept_id);
+  w.FieldUint("size", r.summary.size);
+  w.FieldDouble("spread", r.summary.spread, 4);
   w.Key("members");
   w.BeginArray();
   for (const MemberRow& m : r.members) {
@@ -376,43 +347,32 @@ std::string ExplanationJson(const Explanation& x) {
   w.BeginObject();
   DocFields(&w, x.doc);
   DecisionFields(&w, x.decision);
-  w.Key("threshold");
-  w.Double(x.threshold, 4);
+  w.FieldDouble("threshold", x.threshold, 4);
   w.Key("evidence");
   w.BeginArray();
   for (const EvidenceRow& e : x.evidence) {
     w.BeginObject();
-    w.Key("other_id");
-    w.String(e.other_id);
-    w.Key("edge");
-    w.Bool(e.edge);
-    w.Key("exact");
-    w.Bool(e.exact);
-    w.Key("similarity");
-    w.Double(e.similarity, 4);
+    w.Field("other_id", e.other_id);
+    w.FieldBool("edge", e.edge);
+    w.FieldBool("exact", e.exact);
+    w.FieldDouble("similarity", e.similarity, 4);
     w.Key("bands");
     w.BeginArray();
     for (int b : e.bands) w.Int(b);
     w.EndArray();
-    w.Key("other_decision");
-    w.String(e.other_decision);
+    w.Field("other_decision", e.other_decision);
     w.EndObject();
   }
   w.EndArray();
-  w.Key("candidates_not_shown");
-  w.Uint(x.candidates_not_shown);
+  w.FieldUint("candidates_not_shown", x.candidates_not_shown);
   w.Key("chain");
   w.BeginArray();
   for (const ChainHop& h : x.chain) {
     w.BeginObject();
-    w.Key("from");
-    w.String(h.from);
-    w.Key("to");
-    w.String(h.to);
-    w.Key("similarity");
-    w.Double(h.similarity, 4);
-    w.Key("via");
-    w.String(h.via);
+    w.Field("from", h.from);
+    w.Field("to", h.to);
+    w.FieldDouble("similarity", h.similarity, 4);
+    w.Field("via", h.via);
     w.EndObject();
   }
   w.EndArray();
@@ -432,16 +392,11 @@ std::string QueryJson(const std::vector<QueryHit>& hits) {
   w.BeginArray();
   for (const QueryHit& h : hits) {
     w.BeginObject();
-    w.Key("id");
-    w.String(h.id);
-    w.Key("url");
-    w.String(h.url);
-    w.Key("similarity");
-    w.Double(h.similarity, 4);
-    w.Key("bands");
-    w.Int(h.bands);
-    w.Key("decision");
-    w.String(h.decision);
+    w.Field("id", h.id);
+    w.Field("url", h.url);
+    w.FieldDouble("similarity", h.similarity, 4);
+    w.FieldInt("bands", h.bands);
+    w.Field("decision", h.decision);
     w.EndObject();
   }
   w.EndArray();
@@ -494,10 +449,8 @@ std::string DiffJson(const DiffReport& r) {
     w.BeginArray();
     for (const TextRun& run : rs) {
       w.BeginObject();
-      w.Key("text");
-      w.String(run.text);
-      w.Key("shared");
-      w.Bool(run.shared);
+      w.Field("text", run.text);
+      w.FieldBool("shared", run.shared);
       w.EndObject();
     }
     w.EndArray();
@@ -511,18 +464,12 @@ std::string DiffJson(const DiffReport& r) {
   w.BeginObject();
   DocFields(&w, r.b);
   w.EndObject();
-  w.Key("shingles_a");
-  w.Uint(r.shingles_a);
-  w.Key("shingles_b");
-  w.Uint(r.shingles_b);
-  w.Key("shared_shingles");
-  w.Uint(r.shared_shingles);
-  w.Key("text_jaccard");
-  w.Double(r.text_jaccard, 4);
-  w.Key("exact");
-  w.Bool(r.exact);
-  w.Key("estimated_jaccard");
-  w.Double(r.estimated_jaccard, 4);
+  w.FieldUint("shingles_a", r.shingles_a);
+  w.FieldUint("shingles_b", r.shingles_b);
+  w.FieldUint("shared_shingles", r.shared_shingles);
+  w.FieldDouble("text_jaccard", r.text_jaccard, 4);
+  w.FieldBool("exact", r.exact);
+  w.FieldDouble("estimated_jaccard", r.estimated_jaccard, 4);
   runs("runs_a", r.runs_a);
   runs("runs_b", r.runs_b);
   w.EndObject();

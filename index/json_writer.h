@@ -30,6 +30,27 @@ class JsonWriter {
   void Double(double v, int digits = 4);
   void Bool(bool v);
   void Null();
+  // A key and its value in one call.
+  void Field(std::string_view k, std::string_view v) {
+    Key(k);
+    String(v);
+  }
+  void FieldUint(std::string_view k, uint64_t v) {
+    Key(k);
+    Uint(v);
+  }
+  void FieldInt(std::string_view k, int64_t v) {
+    Key(k);
+    Int(v);
+  }
+  void FieldDouble(std::string_view k, double v, int digits = 4) {
+    Key(k);
+    Double(v, digits);
+  }
+  void FieldBool(std::string_view k, bool v) {
+    Key(k);
+    Bool(v);
+  }
 
   const std::string& str() const { return out_; }
   std::string Take() { return std::move(out_); }
