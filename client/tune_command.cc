@@ -126,6 +126,12 @@ int RunTune(TuneFlags& f) {
     std::cerr << "shingleton tune: " << report.status().message() << "\n";
     return 2;
   }
+  for (double t : f.thresholds) {
+    if (!(t > 0 && t < 1)) {
+      std::cerr << "shingleton tune: --at " << t << " is not in (0, 1)\n";
+      return 2;
+    }
+  }
   if (!f.labels.empty() && f.index.empty()) {
     std::cerr << "shingleton tune: --labels needs --index\n";
     return 2;

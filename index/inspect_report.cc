@@ -136,7 +136,13 @@ std::vector<std::string> WrapMarked(const std::vector<std::pair<std::string, boo
 
 size_t DisplayWidth(const std::string& s) {
   size_t n = 0;
-  for (unsigned char c : s) n += (c & 0xC0) != 0x80;
+  for (size_t i = 0; i < s.size(); ++i) {
+    if (s[i] == '\x1b') {  // an SGR sequence (ESC [ ... m) takes no room
+      while (i < s.size() && s[i] != 'm') ++i;
+      continue;
+    }
+    n += (static_cast<unsigned char>(s[i]) & 0xC0) != 0x80;
+  }
   return n;
 }
 
@@ -428,7 +434,7 @@ std::string DiffText(const DiffReport& r, const ReportStyle& style) {
   const size_t col = static_cast<size_t>(std::max(20, (style.width - 3) / 2));
   std::vector<size_t> wa, wb;
   const auto la = WrapMarked(words_a, col, style, &wa), lb = WrapMarked(words_b, col, style, &wb);
-  out += Pad(Paint("A " + r.a.id, kBold, style), col + (style.colour ? 8 : 0), false) + " | " +
+  out += Pad(Paint("A " + r.a.id, kBold, style), col, false) + " | " +
          Paint("B " + r.b.id, kBold, style) + "\n";
   for (size_t i = 0; i < std::max(la.size(), lb.size()); ++i) {
     std::string left = i < la.size() ? la[i] : "";

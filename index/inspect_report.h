@@ -34,7 +34,8 @@ class TextTable {
   std::vector<std::vector<std::string>> rows_;
 };
 
-// Display width of UTF-8 text: its code points (no wide or combining characters expected).
+// Display width of UTF-8 text: its code points, ANSI colour sequences not counted
+// (no wide or combining characters expected).
 size_t DisplayWidth(const std::string& s);
 std::string Fixed(double v, int digits = 4);
 

@@ -395,5 +395,27 @@ TEST_F(InspectTest, ErrorsNameWhatIsMissing) {
   }
 }
 
+// Aligned columns by construction; colour sequences take no room.
+TEST(TextTableTest, AlignsWithAndWithoutColour) {
+  TextTable t({"id", "n"}, "lr");
+  t.AddRow({"a", "1"});
+  t.AddRow({"bbb", "22"});
+  ReportStyle plain;
+  EXPECT_EQ(t.Render(plain), "id    n\na     1\nbbb  22\n");
+  ReportStyle colour;
+  colour.colour = true;
+  std::string shown = t.Render(colour), stripped;
+  for (size_t i = 0; i < shown.size(); ++i) {
+    if (shown[i] == '\x1b') {
+      while (shown[i] != 'm') ++i;
+    } else {
+      stripped += shown[i];
+    }
+  }
+  EXPECT_NE(shown, stripped);
+  EXPECT_EQ(stripped, t.Render(plain));
+  EXPECT_EQ(DisplayWidth("\x1b[32mcafé\x1b[0m"), 4u);
+}
+
 }  // namespace
 }  // namespace shingleton
