@@ -417,5 +417,36 @@ TEST(TextTableTest, AlignsWithAndWithoutColour) {
   EXPECT_EQ(DisplayWidth("\x1b[32mcafé\x1b[0m"), 4u);
 }
 
+// Drops in favour of a frozen reference generation: explain names the reference
+// document's key (its id lives in the generation), stats count the reasons the
+// manifests give, and such a document is in no cluster of the job.
+TEST(InspectReferenceTest, ReferenceDropsAreExplained) {
+  TempDir dir;
+  std::string text;
+  for (int i = 0; i < 60; ++i) text += "tide table for brellan harbour entry " + std::to_string(i) + " ";
+  WriteFile(dir.File("oct.jsonl"), JsonLine("oct-1", text));
+  WriteFile(dir.File("nov.jsonl"), JsonLine("nov-1", text) + JsonLine("nov-2", "an unrelated page about ferries"));
+  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("oct.jsonl"), "--out", dir.File("oct"), "--quiet"}).exit_code, 0);
+  RunResult frozen = RunShingleton({"freeze", "--from", dir.File("oct"), "--to", dir.File("ref")});
+  ASSERT_EQ(frozen.exit_code, 0) << frozen.output;
+  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("nov.jsonl"), "--out", dir.File("nov"), "--reference",
+                           dir.File("ref"), "--quiet"}).exit_code, 0);
+  const auto drops = ReadManifestLines(dir.File("nov") + "/drop.jsonl");
+  ASSERT_EQ(drops.size(), 1u);
+  EXPECT_EQ(drops[0].reason, "reference-exact");
+  auto inspector = Inspector::Open(dir.File("nov") + "/index");
+  ASSERT_TRUE(inspector.ok());
+  auto x = inspector.value()->Explain("nov-1");
+  ASSERT_TRUE(x.ok()) << x.status().ToString();
+  EXPECT_FALSE(x->decision.kept);
+  EXPECT_EQ(x->decision.reason, "reference");
+  EXPECT_EQ(x->decision.duplicate_of, "reference document " + drops[0].cluster);
+  auto stats = inspector.value()->Stats();
+  ASSERT_TRUE(stats.ok());
+  EXPECT_EQ(stats->dropped_by_reason.at("reference-exact"), 1u);
+  EXPECT_EQ(stats->clusters, 0u);
+  EXPECT_EQ(inspector.value()->Cluster("nov-1").status().code(), Status::Code::kNotFound);
+}
+
 }  // namespace
 }  // namespace shingleton
