@@ -57,15 +57,6 @@ bool ParseLabel(const std::string& text, uint64_t* key) {
   return *end == '\0';
 }
 
-// Scans every decision: member counts and spreads per cluster of this job.
-struct ClusterScan {
-  struct Entry {
-    uint32_t size = 0;
-    double spread = 1;
-  };
-  std::map<uint64_t, Entry> clusters;  // by kept key
-};
-
 }  // namespace
 
 DocInfo InfoOf(const DocumentMeta& doc) {
@@ -155,33 +146,41 @@ std::string Inspector::DecisionWord(uint64_t key) const {
   return "dropped -> " + (kept.ok() ? kept->id : ClusterLabel(d->kept_key));
 }
 
+Status Inspector::ScanDecisions(const DecisionFn& fn, std::map<uint64_t, ClusterTally>* clusters) const {
+  return store_->ForEachDocument([&](DocumentMeta doc) -> Status {
+    auto d = store_->GetDecision(doc.key);
+    if (!d.ok()) return d.status().WithContext("decision of " + doc.id);
+    if (!d->for_reference) {
+      ClusterTally& c = (*clusters)[d->cluster];
+      ++c.size;
+      c.spread = std::min<double>(c.spread, d->similarity);
+    }
+    return fn ? fn(doc, d.value()) : Status::Ok();
+  });
+}
+
 StatusOr<StatsReport> Inspector::Stats() const {
   StatsReport r;
   r.index_path = store_->path();
   r.scheme = store_->scheme().Serialize();
   r.threshold = threshold_;
   r.keep_policy = keep_policy_;
-  std::map<uint64_t, ClusterScan::Entry> clusters;
   std::map<std::string, uint64_t> reasons;
-  SHINGLETON_RETURN_IF_ERROR(store_->ForEachDocument([&](DocumentMeta doc) -> Status {
-    ++r.documents;
-    if (HasFullText(doc)) ++r.full_text_documents;
-    SHINGLETON_ASSIGN_OR_RETURN(DecisionInfo info, DescribeDecision(doc));
-    if (info.kept) {
-      ++r.kept;
-    } else {
-      ++r.dropped;
-      ++reasons[info.reason];
-    }
-    if (info.reason != "reference") {
-      uint64_t label;
-      ParseLabel(info.cluster, &label);
-      auto& c = clusters[label];
-      ++c.size;
-      c.spread = std::min(c.spread, info.similarity);
-    }
-    return Status::Ok();
-  }));
+  std::map<uint64_t, ClusterTally> clusters;
+  SHINGLETON_RETURN_IF_ERROR(ScanDecisions(
+      [&](const DocumentMeta& doc, const Decision&) -> Status {
+        ++r.documents;
+        if (HasFullText(doc)) ++r.full_text_documents;
+        SHINGLETON_ASSIGN_OR_RETURN(DecisionInfo info, DescribeDecision(doc));
+        if (info.kept) {
+          ++r.kept;
+        } else {
+          ++r.dropped;
+          ++reasons[info.reason];
+        }
+        return Status::Ok();
+      },
+      &clusters));
   r.dropped_by_reason = record_reasons_.empty() ? reasons : record_reasons_;
   std::map<uint64_t, std::pair<std::string, uint64_t>> bins;
   for (const auto& [label, c] : clusters) {
@@ -201,16 +200,8 @@ StatusOr<StatsReport> Inspector::Stats() const {
 }
 
 StatusOr<std::vector<ClusterRow>> Inspector::Clusters(const ClusterQuery& q) const {
-  std::map<uint64_t, ClusterScan::Entry> clusters;
-  SHINGLETON_RETURN_IF_ERROR(store_->ForEachDocument([&](DocumentMeta doc) -> Status {
-    auto d = store_->GetDecision(doc.key);
-    if (!d.ok()) return d.status().WithContext("decision of " + doc.id);
-    if (d->for_reference) return Status::Ok();
-    auto& c = clusters[d->cluster];
-    ++c.size;
-    c.spread = std::min<double>(c.spread, d->similarity);
-    return Status::Ok();
-  }));
+  std::map<uint64_t, ClusterTally> clusters;
+  SHINGLETON_RETURN_IF_ERROR(ScanDecisions(nullptr, &clusters));
   std::vector<ClusterRow> rows;
   for (const auto& [label, c] : clusters) {
     if (c.size < std::max<uint32_t>(q.min_size, 2) || !(c.spread < q.spread_below)) continue;
@@ -235,7 +226,7 @@ StatusOr<std::vector<ClusterRow>> Inspector::Clusters(const ClusterQuery& q) con
   }
   if (q.limit > 0 && rows.size() > q.limit) rows.resize(q.limit);
   for (ClusterRow& row : rows) {
-    uint64_t key;
+    uint64_t key = 0;
     ParseLabel(row.cluster, &key);
     SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta kept, store_->GetDocument(key));
     row.kept_id = kept.id;

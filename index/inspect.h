@@ -22,6 +22,7 @@
 #pragma once
 
 #include <cstdint>
+#include <functional>
 #include <map>
 #include <memory>
 #include <string>
@@ -156,6 +157,14 @@ class Inspector {
   double threshold() const { return threshold_; }
 
  private:
+  struct ClusterTally {
+    uint32_t size = 0;
+    double spread = 1;  // lowest member similarity to the kept document
+  };
+  using DecisionFn = std::function<Status(const DocumentMeta&, const Decision&)>;
+  // Calls fn (if any) for every document and its decision, in key order, and
+  // tallies the job's clusters by label (reference drops belong to none).
+  Status ScanDecisions(const DecisionFn& fn, std::map<uint64_t, ClusterTally>* clusters) const;
   StatusOr<DocumentMeta> Document(const std::string& id) const;
   StatusOr<DecisionInfo> DescribeDecision(const DocumentMeta& doc) const;
   std::string DecisionWord(uint64_t key) const;

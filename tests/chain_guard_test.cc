@@ -90,7 +90,9 @@ TEST(ChainGuardTest, UnionFindChainsAndTheGuardSplitsByOwnSimilarity) {
   EXPECT_EQ(d[0].cluster_size, 2u);
   EXPECT_EQ(d[2].cluster_size, 2u);
   for (const Decision& x : d) {
-    if (!x.kept()) EXPECT_GE(x.similarity, 0.8);  // every drop is similar to its own kept document
+    if (!x.kept()) {
+      EXPECT_GE(x.similarity, 0.8);  // every drop is similar to its own kept document
+    }
   }
 }
 

@@ -124,7 +124,9 @@ TEST_F(InspectTest, ClustersBySizeAndBySpread) {
     const ClusterRow& r = (*all)[i];
     EXPECT_EQ(r.size, size_of.at(r.cluster));
     EXPECT_NEAR(r.spread, spread_of.at(r.cluster), 5e-5);  // manifests carry 4 decimals
-    if (i) EXPECT_GE((*all)[i - 1].size, r.size);
+    if (i) {
+      EXPECT_GE((*all)[i - 1].size, r.size);
+    }
   }
   q.sort_by_spread = true;
   auto by_spread = plain_->Clusters(q);
@@ -207,14 +209,18 @@ TEST_F(InspectTest, ExplainAgreesWithDropJsonlForEveryDrop) {
     EXPECT_EQ(x->chain.back().to, d.duplicate_of);
     for (size_t i = 0; i < x->chain.size(); ++i) {
       EXPECT_GE(x->chain[i].similarity, 0.8) << d.id << " hop " << i;  // verified edges only
-      if (i) EXPECT_EQ(x->chain[i - 1].to, x->chain[i].from);
+      if (i) {
+        EXPECT_EQ(x->chain[i - 1].to, x->chain[i].from);
+      }
     }
     bool edge_seen = false;
     for (const EvidenceRow& e : x->evidence) {
       if (!e.edge) {
         EXPECT_FALSE(e.bands.empty()) << "a candidate shares a bucket";
         // A similar pair never compared directly is still joined through other edges.
-        if (e.similarity >= 0.8) EXPECT_EQ(cluster_of.at(e.other_id), d.cluster) << d.id << " " << e.other_id;
+        if (e.similarity >= 0.8) {
+          EXPECT_EQ(cluster_of.at(e.other_id), d.cluster) << d.id << " " << e.other_id;
+        }
       }
       edge_seen = edge_seen || (e.edge && e.other_id == x->chain.front().to);
     }
