@@ -378,6 +378,40 @@ TEST_F(InspectTest, DiffOfAWrappedCopy) {
   EXPECT_NEAR(double(e["text_jaccard"]), diff->text_jaccard, 5e-5);
 }
 
+// Golden tables of the demo job (regression pins; the same values are checked
+// against the manifests by the tests above).
+TEST_F(InspectTest, GoldenTablesOfTheDemoJob) {
+  EXPECT_EQ(Run({"inspect", "clusters", "--index", Index(), "--limit", "5"}),
+            "cluster           size  spread  kept document\n"
+            "a17cfd74f7dd171a    87  0.7266  doc-001664\n"
+            "99184c54e3eb6683     9  0.8828  doc-001195\n"
+            "780149d2da6e4798     8  0.8125  doc-000599\n"
+            "80a29de3aa98d95d     8  0.7266  doc-000254\n"
+            "3e9e3b5995974d60     7  0.8516  doc-000450\n");
+  const std::string explain = Run({"inspect", "explain", "doc-001024", "--index", Index()});
+  EXPECT_EQ(explain.rfind("doc-001024: dropped (near) as a duplicate of doc-000254\n"
+                          "estimated Jaccard to it  0.8594\n"
+                          "cluster                  80a29de3aa98d95d (8 documents)\n", 0),
+            0u)
+      << explain;
+  const size_t table = explain.find("other       kind");
+  ASSERT_NE(table, std::string::npos) << explain;
+  EXPECT_EQ(explain.substr(table),
+            "other       kind             est. J  shared bands                           other's decision\n"
+            "doc-000798  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  dropped -> doc-000254\n"
+            "doc-001117  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  dropped -> doc-000254\n"
+            "doc-001436  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  dropped -> doc-000254\n"
+            "doc-002104  edge             0.8984  1,2,4,7,10,15                          dropped -> doc-000254\n"
+            "doc-000254  edge             0.8594  3,4,5,10,12,13                         kept\n"
+            "doc-000494  edge             0.8594  3,6,9,15                               dropped -> doc-000254\n"
+            "doc-000906  edge             0.8516  2,12,13,15                             dropped -> doc-000254\n"
+            "doc-000337  below threshold  0.6328  10                                     kept\n"
+            "\n"
+            "Chain of edges to the kept document\n"
+            "from        to          est. J  via\n"
+            "doc-001024  doc-000254  0.8594  band 3\n");
+}
+
 // --store-text changes what is stored, never a decision.
 TEST_F(InspectTest, StoreTextKeepsDecisions) {
   EXPECT_EQ(ReadFile(dir_->File("plain") + "/drop.jsonl"), ReadFile(dir_->File("text") + "/drop.jsonl"));
