@@ -97,6 +97,11 @@ std::string SummaryTable(const DedupSummary& s, const std::string& out_dir) {
   row("largest cluster", WithCommas(s.largest_cluster));
   if (s.empty_documents > 0) row("empty documents", WithCommas(s.empty_documents));
   row("verified edges", WithCommas(s.edges), WithCommas(s.comparisons) + " comparisons");
+  if (s.chain_guard.clusters_guarded > 0) {
+    row("chains guarded", WithCommas(s.chain_guard.clusters_guarded),
+        WithCommas(s.chain_guard.members_kept) + " members kept, " + WithCommas(s.chain_guard.members_moved) +
+            " moved");
+  }
   row("time", secs, WithCommas(static_cast<uint64_t>(rate)) + " docs/s");
   out << "  manifests: " << out_dir << "/keep.jsonl, " << out_dir << "/drop.jsonl, " << out_dir
       << "/summary.json\n";
