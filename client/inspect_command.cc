@@ -36,7 +36,8 @@ struct InspectFlags {
 
 int TerminalWidth() {
   winsize ws{};
-  if (::isatty(STDOUT_FILENO) && ::ioctl(STDOUT_FILENO, TIOCGWINSZ, &ws) == 0 && ws.ws_col >= 40) {
+  if (::isatty(STDOUT_FILENO) && ::ioctl(STDOUT_FILENO, TIOCGWINSZ, &ws) == 0 &&
+      ws.ws_col >= 40) {
     return ws.ws_col;
   }
   return 100;
@@ -67,14 +68,17 @@ Status ReadQueryText(InspectFlags* f) {
     text.assign(std::istreambuf_iterator<char>(in), {});
   }
   if (text.empty()) return Status::InvalidArgument("empty query text");
-  return ValidateUtf8(text).WithContext(f->text_file.empty() ? "standard input" : f->text_file);
+  return ValidateUtf8(text).WithContext(f->text_file.empty() ? "standard input"
+                                                             : f->text_file);
 }
 
-// The coordinator path: Query for `query` (postings live on the shards), Inspect for the rest.
+// The coordinator path: Query for `query` (postings live on the shards), Inspect for the
+// rest.
 StatusOr<std::string> ViaCoordinator(InspectFlags& f, const ReportStyle& style) {
   SHINGLETON_RETURN_IF_ERROR(ApplyClientFlags(&f.client));
   if (f.job.empty()) return Status::InvalidArgument("--coordinator needs --job");
-  SHINGLETON_ASSIGN_OR_RETURN(auto channel, rpc::MakeChannel(f.client.coordinator, f.client.security));
+  SHINGLETON_ASSIGN_OR_RETURN(auto channel,
+                              rpc::MakeChannel(f.client.coordinator, f.client.security));
   auto stub = v1::Coordinator::NewStub(channel);
   grpc::ClientContext ctx;
   rpc::PrepareContext(&ctx, f.client.security, f.client.deadline_s);
@@ -86,7 +90,8 @@ StatusOr<std::string> ViaCoordinator(InspectFlags& f, const ReportStyle& style) 
     req.set_min_similarity(c.min_similarity);
     req.set_limit(static_cast<uint32_t>(c.limit));
     v1::QueryResponse resp;
-    SHINGLETON_RETURN_IF_ERROR(rpc::FromGrpcStatus(stub->Query(&ctx, req, &resp), "query"));
+    SHINGLETON_RETURN_IF_ERROR(
+        rpc::FromGrpcStatus(stub->Query(&ctx, req, &resp), "query"));
     std::vector<QueryHit> hits;
     for (const auto& cand : resp.candidates()) {
       hits.push_back({cand.id(), cand.url(), cand.similarity(), 0, ""});
@@ -101,12 +106,14 @@ StatusOr<std::string> ViaCoordinator(InspectFlags& f, const ReportStyle& style) 
   req.set_sort_by_spread(c.clusters.sort_by_spread);
   req.set_spread_below(c.clusters.spread_below);
   req.set_chains_only(c.clusters.chains_only);
-  req.set_limit(static_cast<uint32_t>(c.command == "clusters" ? c.clusters.limit : c.max_candidates));
+  req.set_limit(static_cast<uint32_t>(c.command == "clusters" ? c.clusters.limit
+                                                              : c.max_candidates));
   req.set_json(f.json);
   req.set_width(static_cast<uint32_t>(style.width));
   req.set_side_by_side(style.side_by_side);
   v1::InspectResponse resp;
-  SHINGLETON_RETURN_IF_ERROR(rpc::FromGrpcStatus(stub->Inspect(&ctx, req, &resp), "inspect"));
+  SHINGLETON_RETURN_IF_ERROR(
+      rpc::FromGrpcStatus(stub->Inspect(&ctx, req, &resp), "inspect"));
   return resp.report();
 }
 
@@ -116,12 +123,14 @@ int Run(InspectFlags& f) {
     if (!a->empty()) f.command.args.push_back(*a);
   }
   Status s = Status::Ok();
-  if (remote == !f.index.empty()) s = Status::InvalidArgument("give exactly one of --index DIR and --coordinator ADDR");
+  if (remote == !f.index.empty())
+    s = Status::InvalidArgument("give exactly one of --index DIR and --coordinator ADDR");
   auto style = StyleOf(f);
   if (s.ok() && !style.ok()) s = style.status();
   if (s.ok()) s = ReadQueryText(&f);
   if (!s.ok()) {
-    std::cerr << "shingleton inspect " << f.command.command << ": " << s.message() << "\n";
+    std::cerr << "shingleton inspect " << f.command.command << ": " << s.message()
+              << "\n";
     return 2;
   }
   StatusOr<std::string> out = Status::Internal("unreached");
@@ -129,31 +138,38 @@ int Run(InspectFlags& f) {
     out = ViaCoordinator(f, style.value());
   } else {
     auto inspector = Inspector::Open(f.index);
-    out = inspector.ok() ? RunInspection(*inspector.value(), f.command, style.value(), f.json)
-                         : StatusOr<std::string>(inspector.status());
+    out = inspector.ok()
+              ? RunInspection(*inspector.value(), f.command, style.value(), f.json)
+              : StatusOr<std::string>(inspector.status());
   }
   if (!out.ok()) {
-    std::cerr << "shingleton inspect " << f.command.command << ": " << out.status().ToString() << "\n";
+    std::cerr << "shingleton inspect " << f.command.command << ": "
+              << out.status().ToString() << "\n";
     return 1;
   }
   std::cout << out.value();
   return 0;
 }
 
-CLI::App* AddInspection(CLI::App* parent, const std::string& name, const std::string& help, int* rc,
+CLI::App* AddInspection(CLI::App* parent, const std::string& name,
+                        const std::string& help, int* rc,
                         std::shared_ptr<InspectFlags>* flags) {
   auto f = std::make_shared<InspectFlags>();
   f->command.command = name;
   CLI::App* cmd = parent->add_subcommand(name, help);
   f->cmd = cmd;
-  cmd->add_option("--index", f->index, "The index of a finished embedded job (dedup's OUT/index)")
+  cmd->add_option("--index", f->index,
+                  "The index of a finished embedded job (dedup's OUT/index)")
       ->check(CLI::ExistingDirectory);
   AddClientFlags(cmd, &f->client);
   cmd->add_option("--job", f->job, "Job name on the coordinator (with --coordinator)");
-  cmd->add_flag("--json", f->json, "Print JSON (every field) instead of a table [default: off]");
-  cmd->add_option("--colour", f->colour, "Colour the output: auto (only on a terminal), always or never")
+  cmd->add_flag("--json", f->json,
+                "Print JSON (every field) instead of a table [default: off]");
+  cmd->add_option("--colour", f->colour,
+                  "Colour the output: auto (only on a terminal), always or never")
       ->capture_default_str();
-  cmd->add_option("--width", f->width, "Output width in characters; 0 means the terminal's, or 100")
+  cmd->add_option("--width", f->width,
+                  "Output width in characters; 0 means the terminal's, or 100")
       ->capture_default_str();
   cmd->callback([f, rc] { *rc = Run(*f); });
   *flags = f;
@@ -165,68 +181,85 @@ CLI::App* AddInspection(CLI::App* parent, const std::string& name, const std::st
 void AddInspectCommand(CLI::App* app, int* rc) {
   CLI::App* inspect = app->add_subcommand(
       "inspect",
-      "Look at a finished job without changing it: stats, clusters, one cluster, why a document\n"
+      "Look at a finished job without changing it: stats, clusters, one cluster, why a "
+      "document\n"
       "was kept or dropped, the near-duplicates of a text, two documents compared.\n"
-      "Reads --index DIR (an embedded job) or --coordinator ADDR --job NAME (a service job).");
+      "Reads --index DIR (an embedded job) or --coordinator ADDR --job NAME (a service "
+      "job).");
   inspect->require_subcommand(1);
   std::shared_ptr<InspectFlags> f;
 
-  AddInspection(inspect, "stats",
-                "Documents, kept, dropped by reason, clusters and their sizes, chained clusters, "
-                "index size on disk and per document, the sketch scheme",
-                rc, &f);
+  AddInspection(
+      inspect, "stats",
+      "Documents, kept, dropped by reason, clusters and their sizes, chained clusters, "
+      "index size on disk and per document, the sketch scheme",
+      rc, &f);
 
-  CLI::App* c = AddInspection(inspect, "clusters",
-                              "The largest clusters, or the most spread out (--sort spread): spread is "
-                              "the lowest estimated Jaccard of a member to its kept document",
-                              rc, &f);
-  c->add_option("--min-size", f->command.clusters.min_size, "Smallest cluster listed")->capture_default_str();
+  CLI::App* c = AddInspection(
+      inspect, "clusters",
+      "The largest clusters, or the most spread out (--sort spread): spread is "
+      "the lowest estimated Jaccard of a member to its kept document",
+      rc, &f);
+  c->add_option("--min-size", f->command.clusters.min_size, "Smallest cluster listed")
+      ->capture_default_str();
   auto* sort = c->add_option_function<std::string>(
-      "--sort", [f](const std::string& v) { f->command.clusters.sort_by_spread = v == "spread"; },
+      "--sort",
+      [f](const std::string& v) { f->command.clusters.sort_by_spread = v == "spread"; },
       "size (largest first) or spread (lowest first) [default: size]");
   sort->check(CLI::IsMember({"size", "spread"}));
-  c->add_option("--limit", f->command.clusters.limit, "Most clusters listed; 0 lists all")->capture_default_str();
+  c->add_option("--limit", f->command.clusters.limit, "Most clusters listed; 0 lists all")
+      ->capture_default_str();
   c->add_option("--spread-below", f->command.clusters.spread_below,
                 "Only clusters whose spread is below this bound [default: 2, no filter]");
-  c->add_flag("--chains", f->command.clusters.chains_only,
-              "Only chained clusters: spread below the job's threshold (members that are not "
-              "near-duplicates of their kept document; see dedup --chain-guard)");
+  c->add_flag(
+      "--chains", f->command.clusters.chains_only,
+      "Only chained clusters: spread below the job's threshold (members that are not "
+      "near-duplicates of their kept document; see dedup --chain-guard)");
 
-  CLI::App* one = AddInspection(inspect, "cluster",
-                                "One cluster's members: decision, estimated Jaccard to the kept document, "
-                                "exact Jaccard when the texts are stored (dedup --store-text), bytes, url",
-                                rc, &f);
-  one->add_option("ID", f->arg_a, "A member's document id, or the cluster label (16 hex digits)")
+  CLI::App* one = AddInspection(
+      inspect, "cluster",
+      "One cluster's members: decision, estimated Jaccard to the kept document, "
+      "exact Jaccard when the texts are stored (dedup --store-text), bytes, url",
+      rc, &f);
+  one->add_option("ID", f->arg_a,
+                  "A member's document id, or the cluster label (16 hex digits)")
       ->required();
 
-  CLI::App* ex = AddInspection(inspect, "explain",
-                               "Why a document was kept or dropped: duplicate_of and reason, every verified "
-                               "edge with its estimated Jaccard and shared bands, candidates that shared a "
-                               "bucket but fell below the threshold, and the chain of edges to the kept "
-                               "document",
-                               rc, &f);
+  CLI::App* ex = AddInspection(
+      inspect, "explain",
+      "Why a document was kept or dropped: duplicate_of and reason, every verified "
+      "edge with its estimated Jaccard and shared bands, candidates that shared a "
+      "bucket but fell below the threshold, and the chain of edges to the kept "
+      "document",
+      rc, &f);
   ex->add_option("DOC", f->arg_a, "Document id")->required();
-  ex->add_option("--candidates", f->command.max_candidates, "Most rejected candidates listed")
+  ex->add_option("--candidates", f->command.max_candidates,
+                 "Most rejected candidates listed")
       ->capture_default_str();
 
-  CLI::App* q = AddInspection(inspect, "query",
-                              "The near-duplicates of any text in the index, with estimated Jaccard; "
-                              "changes nothing",
-                              rc, &f);
-  q->add_option("--text-file", f->text_file, "File holding the text; - or absent reads standard input");
+  CLI::App* q = AddInspection(
+      inspect, "query",
+      "The near-duplicates of any text in the index, with estimated Jaccard; "
+      "changes nothing",
+      rc, &f);
+  q->add_option("--text-file", f->text_file,
+                "File holding the text; - or absent reads standard input");
   q->add_option("--min-similarity", f->command.min_similarity,
                 "Smallest estimated Jaccard reported; 0 means the job's threshold")
       ->capture_default_str();
-  q->add_option("--limit", f->command.limit, "Most answers shown; 0 shows all")->capture_default_str();
+  q->add_option("--limit", f->command.limit, "Most answers shown; 0 shows all")
+      ->capture_default_str();
 
-  CLI::App* d = AddInspection(inspect, "diff",
-                              "Two documents' normalised texts with the shingles they share marked, "
-                              "shingle counts and Jaccard (exact with dedup --store-text, else of the "
-                              "excerpts)",
-                              rc, &f);
+  CLI::App* d = AddInspection(
+      inspect, "diff",
+      "Two documents' normalised texts with the shingles they share marked, "
+      "shingle counts and Jaccard (exact with dedup --store-text, else of the "
+      "excerpts)",
+      rc, &f);
   d->add_option("A", f->arg_a, "First document id")->required();
   d->add_option("B", f->arg_b, "Second document id")->required();
-  d->add_flag("--side-by-side", f->side_by_side, "Two columns instead of one text after the other [default: off]");
+  d->add_flag("--side-by-side", f->side_by_side,
+              "Two columns instead of one text after the other [default: off]");
 }
 
 }  // namespace shingleton::cli

@@ -87,33 +87,44 @@ std::string TuneJson(const TuneReport& r, const LabelReport* labels) {
   return w.Take() + "\n";
 }
 
-std::string TuneTable(const TuneReport& r, const LabelReport* labels, const ReportStyle& style) {
+std::string TuneTable(const TuneReport& r, const LabelReport* labels,
+                      const ReportStyle& style) {
   const Banding& b = r.best.banding;
-  std::string out = "threshold " + Fixed(r.options.threshold, 2) + ", k = " + std::to_string(r.options.num_hashes) +
-                    " hashes, false-positive weight " + Fixed(r.options.fp_weight, 2) + "\n";
-  out += "best layout: " + std::to_string(b.bands) + " bands x " + std::to_string(b.rows) + " rows (dedup --bands " +
-         std::to_string(b.bands) + " --rows " + std::to_string(b.rows) + "); P(t) = " + Fixed(r.best.p_at_threshold) +
-         "\n\n";
+  std::string out = "threshold " + Fixed(r.options.threshold, 2) +
+                    ", k = " + std::to_string(r.options.num_hashes) +
+                    " hashes, false-positive weight " + Fixed(r.options.fp_weight, 2) +
+                    "\n";
+  out += "best layout: " + std::to_string(b.bands) + " bands x " +
+         std::to_string(b.rows) + " rows (dedup --bands " + std::to_string(b.bands) +
+         " --rows " + std::to_string(b.rows) +
+         "); P(t) = " + Fixed(r.best.p_at_threshold) + "\n\n";
   TextTable layouts({"bands", "rows", "FP area", "FN area", "cost", "P(t)"}, "rrrrrr");
   auto add = [&](const LayoutRow& l) {
     layouts.AddRow({std::to_string(l.banding.bands), std::to_string(l.banding.rows),
-                    Fixed(l.banding.false_positive_area, 5), Fixed(l.banding.false_negative_area, 5), Fixed(l.cost, 5),
+                    Fixed(l.banding.false_positive_area, 5),
+                    Fixed(l.banding.false_negative_area, 5), Fixed(l.cost, 5),
                     Fixed(l.p_at_threshold)});
   };
   add(r.best);
   for (const LayoutRow& a : r.alternatives) add(a);
-  out += layouts.Render(style) + "(first row: the best; then the best few using k / r bands of r rows)\n\n";
+  out += layouts.Render(style) +
+         "(first row: the best; then the best few using k / r bands of r rows)\n\n";
   TextTable curve({"s", "P(s) = 1-(1-s^r)^b"}, "rr");
   for (const CurvePoint& p : r.curve) curve.AddRow({Fixed(p.s, 1), Fixed(p.p)});
   out += curve.Render(style);
   if (labels) {
-    out += "\nlabelled pairs: " + std::to_string(labels->pairs) + " (" + std::to_string(labels->unknown_ids) +
+    out += "\nlabelled pairs: " + std::to_string(labels->pairs) + " (" +
+           std::to_string(labels->unknown_ids) +
            " naming ids not in the index left out); index scheme " + labels->scheme +
            "; similarity for the prediction: " + labels->similarity_source + "\n";
-    TextTable m({"threshold", "true pairs", "detected", "precision", "predicted", "recall", "predicted"}, "rrrrrrr");
+    TextTable m({"threshold", "true pairs", "detected", "precision", "predicted",
+                 "recall", "predicted"},
+                "rrrrrrr");
     for (const MeasuredRow& row : labels->rows) {
-      m.AddRow({Fixed(row.threshold, 2), std::to_string(row.true_pairs), std::to_string(row.detected),
-                Fixed(row.precision), Fixed(row.predicted_precision), Fixed(row.recall), Fixed(row.predicted_recall)});
+      m.AddRow({Fixed(row.threshold, 2), std::to_string(row.true_pairs),
+                std::to_string(row.detected), Fixed(row.precision),
+                Fixed(row.predicted_precision), Fixed(row.recall),
+                Fixed(row.predicted_recall)});
     }
     out += m.Render(style);
   }
@@ -174,7 +185,8 @@ int RunTune(TuneFlags& f) {
   }
   ReportStyle style;
   style.colour = ::isatty(STDOUT_FILENO) == 1;
-  std::cout << (f.json ? TuneJson(*report, labels.get()) : TuneTable(*report, labels.get(), style));
+  std::cout << (f.json ? TuneJson(*report, labels.get())
+                       : TuneTable(*report, labels.get(), style));
   return 0;
 }
 
@@ -182,30 +194,41 @@ int RunTune(TuneFlags& f) {
 
 void AddTuneCommand(CLI::App* app, int* rc) {
   auto f = std::make_shared<TuneFlags>();
-  CLI::App* cmd = app->add_subcommand(
-      "tune",
-      "Choose LSH bands and rows for a threshold: the best (b, r) for k hashes with its false-positive\n"
-      "and false-negative areas under the S-curve 1-(1-s^r)^b, the curve at s = 0.1..1.0, an SVG\n"
-      "drawing; with --labels on an --index, measured precision and recall next to predicted.");
-  cmd->add_option("-t,--threshold", f->options.threshold, "Similarity threshold of the next job (0 < t < 1)")
+  CLI::App* cmd = app->add_subcommand("tune",
+                                      "Choose LSH bands and rows for a threshold: the "
+                                      "best (b, r) for k hashes with its false-positive\n"
+                                      "and false-negative areas under the S-curve "
+                                      "1-(1-s^r)^b, the curve at s = 0.1..1.0, an SVG\n"
+                                      "drawing; with --labels on an --index, measured "
+                                      "precision and recall next to predicted.");
+  cmd->add_option("-t,--threshold", f->options.threshold,
+                  "Similarity threshold of the next job (0 < t < 1)")
       ->capture_default_str();
-  cmd->add_option("--hashes", f->options.num_hashes, "MinHash signature length k")->capture_default_str();
+  cmd->add_option("--hashes", f->options.num_hashes, "MinHash signature length k")
+      ->capture_default_str();
   cmd->add_option("--fp-weight", f->options.fp_weight,
-                  "Weight of the false-positive area (spurious candidates); the false-negative area "
+                  "Weight of the false-positive area (spurious candidates); the "
+                  "false-negative area "
                   "(missed pairs) gets 1 - w")
       ->capture_default_str();
-  cmd->add_option("--bands", f->options.bands, "Evaluate this many bands instead of choosing; 0 chooses")
+  cmd->add_option("--bands", f->options.bands,
+                  "Evaluate this many bands instead of choosing; 0 chooses")
       ->capture_default_str();
-  cmd->add_option("--rows", f->options.rows, "Rows per band with --bands; 0 chooses")->capture_default_str();
-  cmd->add_option("--svg", f->svg, "Also draw the S-curve with the threshold marked into this SVG file");
+  cmd->add_option("--rows", f->options.rows, "Rows per band with --bands; 0 chooses")
+      ->capture_default_str();
+  cmd->add_option("--svg", f->svg,
+                  "Also draw the S-curve with the threshold marked into this SVG file");
   cmd->add_option("--labels", f->labels,
-                  "TSV of labelled pairs: ID_A<TAB>ID_B<TAB>LABEL, LABEL a similarity in [0, 1] or "
+                  "TSV of labelled pairs: ID_A<TAB>ID_B<TAB>LABEL, LABEL a similarity in "
+                  "[0, 1] or "
                   "same/different; needs --index")
       ->check(CLI::ExistingFile);
-  cmd->add_option("--index", f->index, "An existing index whose documents the labels name")
+  cmd->add_option("--index", f->index,
+                  "An existing index whose documents the labels name")
       ->check(CLI::ExistingDirectory);
   cmd->add_option("--at", f->thresholds,
-                  "Thresholds at which --labels are measured; repeatable [default: t-0.2 .. t+0.1 by 0.05]");
+                  "Thresholds at which --labels are measured; repeatable [default: t-0.2 "
+                  ".. t+0.1 by 0.05]");
   cmd->add_flag("--json", f->json, "Print JSON instead of tables [default: off]");
   cmd->callback([f, rc] { *rc = RunTune(*f); });
 }

@@ -9,8 +9,9 @@ namespace shingleton {
 namespace {
 
 // Re-decides one cluster (dense indices); returns what changed.
-void GuardCluster(const DocTable& docs, const KeepPolicy& policy, double bound, std::vector<uint32_t> members,
-                  std::vector<Decision>* decisions, ChainGuardResult* result) {
+void GuardCluster(const DocTable& docs, const KeepPolicy& policy, double bound,
+                  std::vector<uint32_t> members, std::vector<Decision>* decisions,
+                  ChainGuardResult* result) {
   std::sort(members.begin(), members.end(), [&](uint32_t a, uint32_t b) {
     return policy.Prefer(docs.doc(a), docs.doc(b));
   });
@@ -21,7 +22,8 @@ void GuardCluster(const DocTable& docs, const KeepPolicy& policy, double bound, 
     double best = -1;
     size_t best_k = 0;
     for (size_t k = 0; k < kept.size(); ++k) {
-      const double s = EstimateJaccard(docs.signature(i), docs.signature(kept[k]), docs.num_hashes());
+      const double s =
+          EstimateJaccard(docs.signature(i), docs.signature(kept[k]), docs.num_hashes());
       if (s > best) best = s, best_k = k;
     }
     Decision& d = (*decisions)[i];
@@ -41,7 +43,8 @@ void GuardCluster(const DocTable& docs, const KeepPolicy& policy, double bound, 
   }
   std::map<uint32_t, uint32_t> sizes;
   for (uint32_t o : owner) ++sizes[o];
-  for (size_t m = 0; m < members.size(); ++m) (*decisions)[members[m]].cluster_size = sizes[owner[m]];
+  for (size_t m = 0; m < members.size(); ++m)
+    (*decisions)[members[m]].cluster_size = sizes[owner[m]];
 }
 
 }  // namespace

@@ -23,10 +23,12 @@ namespace {
 bool HasFullText(const DocumentMeta& d) { return d.excerpt.size() == d.text_bytes; }
 
 // Bands whose buckets two signatures share.
-std::vector<int> SharedBands(const SketchScheme& s, const uint32_t* a, const uint32_t* b) {
+std::vector<int> SharedBands(const SketchScheme& s, const uint32_t* a,
+                             const uint32_t* b) {
   std::vector<int> out;
   for (int band = 0; band < s.bands; ++band) {
-    if (BandBucket(a, band, s.rows, s.seed) == BandBucket(b, band, s.rows, s.seed)) out.push_back(band);
+    if (BandBucket(a, band, s.rows, s.seed) == BandBucket(b, band, s.rows, s.seed))
+      out.push_back(band);
   }
   return out;
 }
@@ -44,7 +46,8 @@ uint64_t DirectoryBytes(const std::string& path) {
   namespace fs = std::filesystem;
   std::error_code ec;
   uint64_t total = 0;
-  for (fs::recursive_directory_iterator it(path, ec), end; !ec && it != end; it.increment(ec)) {
+  for (fs::recursive_directory_iterator it(path, ec), end; !ec && it != end;
+       it.increment(ec)) {
     if (it->is_regular_file(ec)) total += it->file_size(ec);
   }
   return total;
@@ -82,12 +85,14 @@ Inspector::Inspector(const IndexStore* store) : store_(store) {
   std::string_view policy;
   uint64_t edges;
   if (root["edges"].get(edges) == simdjson::SUCCESS) edges_ = edges;
-  if (root["keep_policy"].get(policy) == simdjson::SUCCESS) keep_policy_ = std::string(policy);
+  if (root["keep_policy"].get(policy) == simdjson::SUCCESS)
+    keep_policy_ = std::string(policy);
   simdjson::dom::object reasons;
   if (root["dropped_by_reason"].get(reasons) == simdjson::SUCCESS) {
     for (auto [name, value] : reasons) {
       uint64_t n;
-      if (value.get(n) == simdjson::SUCCESS && n > 0) record_reasons_[std::string(name)] = n;
+      if (value.get(n) == simdjson::SUCCESS && n > 0)
+        record_reasons_[std::string(name)] = n;
     }
   }
 }
@@ -106,7 +111,8 @@ StatusOr<DocumentMeta> Inspector::Document(const std::string& id) const {
   auto doc = store_->GetDocument(DocKey(id));
   if (!doc.ok() || doc->id != id) {
     if (doc.ok() || doc.status().code() == Status::Code::kNotFound) {
-      return Status::NotFound("no document with id \"" + id + "\" in the index " + store_->path());
+      return Status::NotFound("no document with id \"" + id + "\" in the index " +
+                              store_->path());
     }
     return doc.status();
   }
@@ -146,7 +152,8 @@ std::string Inspector::DecisionWord(uint64_t key) const {
   return "dropped -> " + (kept.ok() ? kept->id : ClusterLabel(d->kept_key));
 }
 
-Status Inspector::ScanDecisions(const DecisionFn& fn, std::map<uint64_t, ClusterTally>* clusters) const {
+Status Inspector::ScanDecisions(const DecisionFn& fn,
+                                std::map<uint64_t, ClusterTally>* clusters) const {
   return store_->ForEachDocument([&](DocumentMeta doc) -> Status {
     auto d = store_->GetDecision(doc.key);
     if (!d.ok()) return d.status().WithContext("decision of " + doc.id);
@@ -204,7 +211,8 @@ StatusOr<std::vector<ClusterRow>> Inspector::Clusters(const ClusterQuery& q) con
   SHINGLETON_RETURN_IF_ERROR(ScanDecisions(nullptr, &clusters));
   std::vector<ClusterRow> rows;
   for (const auto& [label, c] : clusters) {
-    if (c.size < std::max<uint32_t>(q.min_size, 2) || !(c.spread < q.spread_below)) continue;
+    if (c.size < std::max<uint32_t>(q.min_size, 2) || !(c.spread < q.spread_below))
+      continue;
     if (q.chains_only && !(c.spread < threshold_)) continue;
     ClusterRow row;
     row.cluster = ClusterLabel(label);
@@ -255,14 +263,18 @@ StatusOr<ClusterReport> Inspector::Cluster(const std::string& ref) const {
   if (member.ok()) {
     SHINGLETON_ASSIGN_OR_RETURN(Decision d, store_->GetDecision(member->key));
     if (d.for_reference) {
-      return Status::NotFound("\"" + ref + "\" was dropped for a reference document; it is in no cluster of this job");
+      return Status::NotFound(
+          "\"" + ref +
+          "\" was dropped for a reference document; it is in no cluster of this job");
     }
     label = d.cluster;
   } else if (!ParseLabel(ref, &label)) {
-    return member.status().WithContext("not a document id nor a 16-hex-digit cluster label");
+    return member.status().WithContext(
+        "not a document id nor a 16-hex-digit cluster label");
   }
   auto kept_doc = store_->GetDocument(label);
-  if (!kept_doc.ok()) return Status::NotFound("no cluster " + ref + " in " + store_->path());
+  if (!kept_doc.ok())
+    return Status::NotFound("no cluster " + ref + " in " + store_->path());
   const SketchScheme& scheme = store_->scheme();
   const std::vector<uint64_t> kept_set = ShingleSetOfText(scheme, kept_doc->excerpt);
   ClusterReport report;
@@ -281,11 +293,13 @@ StatusOr<ClusterReport> Inspector::Cluster(const std::string& ref) const {
     }
     report.members.push_back(std::move(row));
   }
-  std::sort(report.members.begin(), report.members.end(), [](const MemberRow& a, const MemberRow& b) {
-    if (a.decision.kept != b.decision.kept) return a.decision.kept;
-    if (a.decision.similarity != b.decision.similarity) return a.decision.similarity > b.decision.similarity;
-    return a.doc.id < b.doc.id;
-  });
+  std::sort(report.members.begin(), report.members.end(),
+            [](const MemberRow& a, const MemberRow& b) {
+              if (a.decision.kept != b.decision.kept) return a.decision.kept;
+              if (a.decision.similarity != b.decision.similarity)
+                return a.decision.similarity > b.decision.similarity;
+              return a.doc.id < b.doc.id;
+            });
   report.summary.size = static_cast<uint32_t>(report.members.size());
   for (const MemberRow& m : report.members) {
     report.summary.spread = std::min(report.summary.spread, m.decision.similarity);
@@ -293,7 +307,8 @@ StatusOr<ClusterReport> Inspector::Cluster(const std::string& ref) const {
   return report;
 }
 
-StatusOr<std::vector<ChainHop>> Inspector::ChainToKept(uint64_t key, uint64_t kept) const {
+StatusOr<std::vector<ChainHop>> Inspector::ChainToKept(uint64_t key,
+                                                       uint64_t kept) const {
   std::unordered_map<uint64_t, Edge> parent;  // node -> edge it was reached by
   std::deque<uint64_t> todo{key};
   parent[key] = Edge{};
@@ -325,7 +340,8 @@ StatusOr<std::vector<ChainHop>> Inspector::ChainToKept(uint64_t key, uint64_t ke
   return hops;
 }
 
-StatusOr<Explanation> Inspector::Explain(const std::string& id, size_t max_candidates) const {
+StatusOr<Explanation> Inspector::Explain(const std::string& id,
+                                         size_t max_candidates) const {
   SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta doc, Document(id));
   const SketchScheme& scheme = store_->scheme();
   Explanation x;
@@ -340,7 +356,9 @@ StatusOr<Explanation> Inspector::Explain(const std::string& id, size_t max_candi
     SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> osig, store_->GetSignature(other));
     EvidenceRow row;
     row.other_id = o.id;
-    row.similarity = similarity >= 0 ? similarity : EstimateJaccard(sig.data(), osig.data(), scheme.num_hashes);
+    row.similarity = similarity >= 0
+                         ? similarity
+                         : EstimateJaccard(sig.data(), osig.data(), scheme.num_hashes);
     row.bands = SharedBands(scheme, sig.data(), osig.data());
     row.other_decision = DecisionWord(other);
     return row;
@@ -357,7 +375,8 @@ StatusOr<Explanation> Inspector::Explain(const std::string& id, size_t max_candi
   for (int band = 0; band < scheme.bands; ++band) {
     SHINGLETON_ASSIGN_OR_RETURN(
         std::vector<uint64_t> members,
-        store_->BucketMembers(band, BandBucket(sig.data(), band, scheme.rows, scheme.seed)));
+        store_->BucketMembers(band,
+                              BandBucket(sig.data(), band, scheme.rows, scheme.seed)));
     for (uint64_t m : members) {
       if (m != doc.key && !linked.count(m)) candidates.insert(m);
     }
@@ -368,7 +387,8 @@ StatusOr<Explanation> Inspector::Explain(const std::string& id, size_t max_candi
     rejected.push_back(std::move(row));
   }
   auto order = [](const EvidenceRow& a, const EvidenceRow& b) {
-    return a.similarity != b.similarity ? a.similarity > b.similarity : a.other_id < b.other_id;
+    return a.similarity != b.similarity ? a.similarity > b.similarity
+                                        : a.other_id < b.other_id;
   };
   std::sort(x.evidence.begin(), x.evidence.end(), order);
   std::sort(rejected.begin(), rejected.end(), order);
@@ -384,7 +404,8 @@ StatusOr<Explanation> Inspector::Explain(const std::string& id, size_t max_candi
   return x;
 }
 
-StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text, double min_similarity,
+StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text,
+                                                 double min_similarity,
                                                  size_t limit) const {
   const SketchScheme& scheme = store_->scheme();
   const double floor = min_similarity > 0 ? min_similarity : threshold_;
@@ -394,7 +415,8 @@ StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text, double m
   signer.Sign(text, sig.data(), buckets.data());
   std::map<uint64_t, int> bands_of;
   for (int band = 0; band < scheme.bands; ++band) {
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint64_t> members, store_->BucketMembers(band, buckets[band]));
+    SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint64_t> members,
+                                store_->BucketMembers(band, buckets[band]));
     for (uint64_t m : members) ++bands_of[m];
   }
   std::map<uint64_t, std::pair<double, int>> found;  // key -> similarity, bands
@@ -406,7 +428,8 @@ StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text, double m
     // Exact copies of a document write no postings; their exact edges find them.
     SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, store_->EdgesOf(key));
     for (const Edge& e : edges) {
-      if (e.band == Edge::kExactBand) found.emplace(e.a == key ? e.b : e.a, std::make_pair(s, bands));
+      if (e.band == Edge::kExactBand)
+        found.emplace(e.a == key ? e.b : e.a, std::make_pair(s, bands));
     }
   }
   std::vector<QueryHit> hits;
@@ -427,7 +450,8 @@ StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text, double m
   return hits;
 }
 
-StatusOr<DiffReport> Inspector::Diff(const std::string& id_a, const std::string& id_b) const {
+StatusOr<DiffReport> Inspector::Diff(const std::string& id_a,
+                                     const std::string& id_b) const {
   SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta a, Document(id_a));
   SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta b, Document(id_b));
   const SketchScheme& scheme = store_->scheme();

@@ -49,15 +49,15 @@ struct DecisionInfo {
   bool kept = true;
   std::string duplicate_of;  // id of the kept document; empty when kept
   std::string reason;
-  std::string cluster;       // 16 hex digits (ClusterLabel)
+  std::string cluster;  // 16 hex digits (ClusterLabel)
   uint32_t cluster_size = 1;
-  double similarity = 1;     // estimated Jaccard to the kept document
+  double similarity = 1;  // estimated Jaccard to the kept document
 };
 
 struct StatsReport {
   std::string index_path, scheme;
-  double threshold = 0;       // from the job record; 0 if unknown
-  std::string keep_policy;    // from the job record
+  double threshold = 0;     // from the job record; 0 if unknown
+  std::string keep_policy;  // from the job record
   uint64_t documents = 0, kept = 0, dropped = 0, full_text_documents = 0;
   std::map<std::string, uint64_t> dropped_by_reason;
   uint64_t clusters = 0, largest_cluster = 0;
@@ -72,15 +72,16 @@ struct ClusterRow {
   std::string cluster;  // label
   std::string kept_id;
   uint32_t size = 0;
-  double spread = 1;    // lowest member similarity to the kept document
+  double spread = 1;  // lowest member similarity to the kept document
 };
 
 struct ClusterQuery {
-  uint32_t min_size = 2;   // Default: 2
+  uint32_t min_size = 2;        // Default: 2
   bool sort_by_spread = false;  // Default: by size (largest first); spread: lowest first
-  double spread_below = 2;  // only clusters with spread < this. Default: 2 (all)
-  bool chains_only = false; // only clusters with spread < the job's threshold. Default: false
-  size_t limit = 20;        // 0: all. Default: 20
+  double spread_below = 2;      // only clusters with spread < this. Default: 2 (all)
+  bool chains_only =
+      false;          // only clusters with spread < the job's threshold. Default: false
+  size_t limit = 20;  // 0: all. Default: 20
 };
 
 struct MemberRow {
@@ -97,11 +98,11 @@ struct ClusterReport {
 // One neighbour of a document: a verified edge or a rejected candidate.
 struct EvidenceRow {
   std::string other_id;
-  double similarity = 0;          // estimated Jaccard of the two signatures
-  bool edge = false;              // verified (>= threshold) and stored by the job
-  bool exact = false;             // identical normalised text (found without LSH)
-  std::vector<int> bands;         // every band whose bucket the two share
-  std::string other_decision;     // "kept" or "dropped -> ID"
+  double similarity = 0;       // estimated Jaccard of the two signatures
+  bool edge = false;           // verified (>= threshold) and stored by the job
+  bool exact = false;          // identical normalised text (found without LSH)
+  std::vector<int> bands;      // every band whose bucket the two share
+  std::string other_decision;  // "kept" or "dropped -> ID"
 };
 
 struct ChainHop {
@@ -115,14 +116,14 @@ struct Explanation {
   DecisionInfo decision;
   std::vector<EvidenceRow> evidence;  // edges first, then candidates; by similarity, id
   size_t candidates_not_shown = 0;
-  std::vector<ChainHop> chain;        // doc -> ... -> kept document (shortest, by edges)
+  std::vector<ChainHop> chain;  // doc -> ... -> kept document (shortest, by edges)
   double threshold = 0;
 };
 
 struct QueryHit {
   std::string id, url;
   double similarity = 0;
-  int bands = 0;  // bands whose bucket the text shares with the document
+  int bands = 0;         // bands whose bucket the text shares with the document
   std::string decision;  // "kept" or "dropped -> ID"
 };
 
@@ -164,7 +165,8 @@ class Inspector {
   using DecisionFn = std::function<Status(const DocumentMeta&, const Decision&)>;
   // Calls fn (if any) for every document and its decision, in key order, and
   // tallies the job's clusters by label (reference drops belong to none).
-  Status ScanDecisions(const DecisionFn& fn, std::map<uint64_t, ClusterTally>* clusters) const;
+  Status ScanDecisions(const DecisionFn& fn,
+                       std::map<uint64_t, ClusterTally>* clusters) const;
   StatusOr<DocumentMeta> Document(const std::string& id) const;
   StatusOr<DecisionInfo> DescribeDecision(const DocumentMeta& doc) const;
   std::string DecisionWord(uint64_t key) const;
@@ -175,7 +177,7 @@ class Inspector {
   const IndexStore* store_;
   double threshold_ = 0.8;
   std::string keep_policy_;
-  uint64_t edges_ = 0;  // of the job record
+  uint64_t edges_ = 0;                              // of the job record
   std::map<std::string, uint64_t> record_reasons_;  // dropped_by_reason of the job record
 };
 

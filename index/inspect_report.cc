@@ -27,7 +27,9 @@ std::string Pad(const std::string& s, size_t width, bool right) {
 
 std::string Num(uint64_t v) { return std::to_string(v); }
 
-std::string MiB(uint64_t bytes) { return Fixed(static_cast<double>(bytes) / (1024.0 * 1024.0), 1) + " MiB"; }
+std::string MiB(uint64_t bytes) {
+  return Fixed(static_cast<double>(bytes) / (1024.0 * 1024.0), 1) + " MiB";
+}
 
 std::string Section(const std::string& title, const ReportStyle& style) {
   return Paint(title, kBold, style) + "\n";
@@ -35,7 +37,8 @@ std::string Section(const std::string& title, const ReportStyle& style) {
 
 std::string DecisionText(const DecisionInfo& d, const ReportStyle& style) {
   if (d.kept) return Paint("kept", kGreen, style);
-  return Paint("dropped", kRed, style) + " (" + d.reason + ") as a duplicate of " + d.duplicate_of;
+  return Paint("dropped", kRed, style) + " (" + d.reason + ") as a duplicate of " +
+         d.duplicate_of;
 }
 
 void DocFields(JsonWriter* w, const DocInfo& d) {
@@ -93,8 +96,9 @@ std::vector<std::pair<std::string, bool>> Words(const std::vector<TextRun>& runs
 }
 
 // Greedy line filling; shared runs are bracketed (no colour) or green.
-std::vector<std::string> WrapMarked(const std::vector<std::pair<std::string, bool>>& words, size_t width,
-                                    const ReportStyle& style, std::vector<size_t>* widths) {
+std::vector<std::string> WrapMarked(
+    const std::vector<std::pair<std::string, bool>>& words, size_t width,
+    const ReportStyle& style, std::vector<size_t>* widths) {
   std::vector<std::string> lines;
   std::string line;
   size_t line_width = 0;
@@ -111,7 +115,8 @@ std::vector<std::string> WrapMarked(const std::vector<std::pair<std::string, boo
     line_width = 0;
   };
   for (const auto& [word, shared] : words) {
-    const size_t extra = (shared && !in_shared && !style.colour ? 2 : 0) + (line_width ? 1 : 0);
+    const size_t extra =
+        (shared && !in_shared && !style.colour ? 2 : 0) + (line_width ? 1 : 0);
     if (line_width && line_width + extra + DisplayWidth(word) > width) flush();
     if (line_width) {
       if (in_shared && !shared) close();
@@ -172,7 +177,8 @@ std::string TextTable::Render(const ReportStyle& style) const {
     std::string out;
     for (size_t c = 0; c < cells.size(); ++c) {
       const bool last = c + 1 == cells.size();
-      std::string cell = Pad(cells[c], last && align_[c] == 'l' ? 0 : width[c], align_[c] == 'r');
+      std::string cell =
+          Pad(cells[c], last && align_[c] == 'l' ? 0 : width[c], align_[c] == 'r');
       out += (c ? "  " : "") + (header ? Paint(cell, kBold, style) : cell);
     }
     while (!out.empty() && out.back() == ' ') out.pop_back();
@@ -195,11 +201,14 @@ std::string StatsTable(const StatsReport& r, const ReportStyle& style) {
   for (const auto& [reason, n] : r.dropped_by_reason) t.AddRow({"  " + reason, Num(n)});
   t.AddRow({"clusters (2+ documents)", Num(r.clusters)});
   t.AddRow({"largest cluster", Num(r.largest_cluster)});
-  t.AddRow({"chained clusters", Num(r.chained_clusters) + " (spread below the threshold)"});
+  t.AddRow(
+      {"chained clusters", Num(r.chained_clusters) + " (spread below the threshold)"});
   t.AddRow({"verified edges", Num(r.edges)});
-  t.AddRow({"whole text stored", Num(r.full_text_documents) + " of " + Num(r.documents) + " documents"});
+  t.AddRow({"whole text stored",
+            Num(r.full_text_documents) + " of " + Num(r.documents) + " documents"});
   const uint64_t per_doc = r.documents ? r.bytes_on_disk / r.documents : 0;
-  t.AddRow({"index on disk", MiB(r.bytes_on_disk) + " (" + Num(per_doc) + " bytes per document)"});
+  t.AddRow({"index on disk",
+            MiB(r.bytes_on_disk) + " (" + Num(per_doc) + " bytes per document)"});
   std::string out = Section("Job", style);
   const std::string body = t.Render(style);
   out += body.substr(body.find('\n') + 1);  // no header line for a key-value table
@@ -217,13 +226,19 @@ std::string StatsJson(const StatsReport& r) {
   w.FieldDouble("threshold", r.threshold, 4);
   w.Field("keep_policy", r.keep_policy);
   for (const auto& [k, v] : std::vector<std::pair<const char*, uint64_t>>{
-           {"documents", r.documents}, {"kept", r.kept}, {"dropped", r.dropped},
-           {"clusters", r.clusters}, {"largest_cluster", r.largest_cluster},
-           {"chained_clusters", r.chained_clusters}, {"edges", r.edges},
-           {"full_text_documents", r.full_text_documents}, {"bytes_on_disk", r.bytes_on_disk}}) {
+           {"documents", r.documents},
+           {"kept", r.kept},
+           {"dropped", r.dropped},
+           {"clusters", r.clusters},
+           {"largest_cluster", r.largest_cluster},
+           {"chained_clusters", r.chained_clusters},
+           {"edges", r.edges},
+           {"full_text_documents", r.full_text_documents},
+           {"bytes_on_disk", r.bytes_on_disk}}) {
     w.FieldUint(k, v);
   }
-  w.FieldDouble("bytes_per_document", r.documents ? static_cast<double>(r.bytes_on_disk) / r.documents : 0, 1);
+  w.FieldDouble("bytes_per_document",
+                r.documents ? static_cast<double>(r.bytes_on_disk) / r.documents : 0, 1);
   w.Key("dropped_by_reason");
   w.BeginObject();
   for (const auto& [reason, n] : r.dropped_by_reason) {
@@ -246,7 +261,8 @@ std::string StatsJson(const StatsReport& r) {
 std::string ClustersTable(const std::vector<ClusterRow>& rows, const ReportStyle& style) {
   if (rows.empty()) return "no cluster matches\n";
   TextTable t({"cluster", "size", "spread", "kept document"}, "lrrl");
-  for (const ClusterRow& r : rows) t.AddRow({r.cluster, Num(r.size), Fixed(r.spread), r.kept_id});
+  for (const ClusterRow& r : rows)
+    t.AddRow({r.cluster, Num(r.size), Fixed(r.spread), r.kept_id});
   return t.Render(style);
 }
 
@@ -273,9 +289,11 @@ std::string ClusterTable(const ClusterReport& r, const ReportStyle& style) {
   TextTable t({"id", "decision", "est. J", "exact J", "bytes", "url"}, "llrrrl");
   for (const MemberRow& m : r.members) {
     t.AddRow({m.doc.id,
-              m.decision.kept ? Paint("kept", kGreen, style) : "dropped (" + m.decision.reason + ")",
-              Fixed(m.decision.similarity), m.exact_jaccard >= 0 ? Fixed(m.exact_jaccard) : "-",
-              Num(m.doc.text_bytes), m.doc.url});
+              m.decision.kept ? Paint("kept", kGreen, style)
+                              : "dropped (" + m.decision.reason + ")",
+              Fixed(m.decision.similarity),
+              m.exact_jaccard >= 0 ? Fixed(m.exact_jaccard) : "-", Num(m.doc.text_bytes),
+              m.doc.url});
   }
   out += t.Render(style);
   bool any_exact = false;
@@ -313,36 +331,45 @@ std::string ClusterJson(const ClusterReport& r) {
 std::string ExplanationTable(const Explanation& x, const ReportStyle& style) {
   std::string out = Section(x.doc.id + ": " + DecisionText(x.decision, style), style);
   TextTable facts({"", ""}, "ll");
-  if (!x.decision.kept) facts.AddRow({"estimated Jaccard to it", Fixed(x.decision.similarity)});
-  facts.AddRow({"cluster", x.decision.cluster + " (" + Num(x.decision.cluster_size) + " documents)"});
+  if (!x.decision.kept)
+    facts.AddRow({"estimated Jaccard to it", Fixed(x.decision.similarity)});
+  facts.AddRow({"cluster", x.decision.cluster + " (" + Num(x.decision.cluster_size) +
+                               " documents)"});
   facts.AddRow({"url", x.doc.url});
   facts.AddRow({"source", x.doc.source});
-  facts.AddRow({"text", Num(x.doc.text_bytes) + " bytes, " + Num(x.doc.tokens) + " tokens"});
+  facts.AddRow(
+      {"text", Num(x.doc.text_bytes) + " bytes, " + Num(x.doc.tokens) + " tokens"});
   facts.AddRow({"job threshold", Fixed(x.threshold)});
   const std::string body = facts.Render(style);
   out += body.substr(body.find('\n') + 1);
   out += "\n" + Section("Evidence: documents sharing a bucket with it", style);
-  out += "edge: a verified pair the job stored; below threshold: compared and rejected; not verified:\n"
-         "similar but never compared directly (an exact copy's pairs are verified on its first copy;\n"
-         "large buckets compare with leaders only)\n";
+  out +=
+      "edge: a verified pair the job stored; below threshold: compared and rejected; not "
+      "verified:\n"
+      "similar but never compared directly (an exact copy's pairs are verified on its "
+      "first copy;\n"
+      "large buckets compare with leaders only)\n";
   if (x.evidence.empty()) {
     out += "no document shares a bucket with it\n";
   } else {
     TextTable t({"other", "kind", "est. J", "shared bands", "other's decision"}, "llrll");
     for (const EvidenceRow& e : x.evidence) {
-      const std::string kind = e.exact                        ? "edge (exact)"
-                               : e.edge                       ? "edge"
+      const std::string kind = e.exact                      ? "edge (exact)"
+                               : e.edge                     ? "edge"
                                : e.similarity < x.threshold ? "below threshold"
-                                                              : "not verified";
-      t.AddRow({e.other_id, kind, Fixed(e.similarity), BandList(e.bands), e.other_decision});
+                                                            : "not verified";
+      t.AddRow(
+          {e.other_id, kind, Fixed(e.similarity), BandList(e.bands), e.other_decision});
     }
     out += t.Render(style);
-    if (x.candidates_not_shown) out += "(" + Num(x.candidates_not_shown) + " more candidates not shown)\n";
+    if (x.candidates_not_shown)
+      out += "(" + Num(x.candidates_not_shown) + " more candidates not shown)\n";
   }
   if (!x.chain.empty()) {
     out += "\n" + Section("Chain of edges to the kept document", style);
     TextTable c({"from", "to", "est. J", "via"}, "llrl");
-    for (const ChainHop& h : x.chain) c.AddRow({h.from, h.to, Fixed(h.similarity), h.via});
+    for (const ChainHop& h : x.chain)
+      c.AddRow({h.from, h.to, Fixed(h.similarity), h.via});
     out += c.Render(style);
   }
   return out;
@@ -389,7 +416,8 @@ std::string ExplanationJson(const Explanation& x) {
 std::string QueryTable(const std::vector<QueryHit>& hits, const ReportStyle& style) {
   if (hits.empty()) return "no near-duplicate in the index\n";
   TextTable t({"id", "est. J", "bands", "decision", "url"}, "lrrll");
-  for (const QueryHit& h : hits) t.AddRow({h.id, Fixed(h.similarity), Num(h.bands), h.decision, h.url});
+  for (const QueryHit& h : hits)
+    t.AddRow({h.id, Fixed(h.similarity), Num(h.bands), h.decision, h.url});
   return t.Render(style);
 }
 
@@ -414,26 +442,35 @@ std::string DiffText(const DiffReport& r, const ReportStyle& style) {
   t.AddRow({"id", r.a.id, r.b.id});
   t.AddRow({"url", r.a.url, r.b.url});
   t.AddRow({"text bytes", Num(r.a.text_bytes), Num(r.b.text_bytes)});
-  t.AddRow({"stored", r.a.full_text ? "whole text" : "excerpt", r.b.full_text ? "whole text" : "excerpt"});
+  t.AddRow({"stored", r.a.full_text ? "whole text" : "excerpt",
+            r.b.full_text ? "whole text" : "excerpt"});
   t.AddRow({"shingles", Num(r.shingles_a), Num(r.shingles_b)});
   std::string out = t.Render(style);
-  out += "shared shingles " + Num(r.shared_shingles) + "; Jaccard of the stored texts " + Fixed(r.text_jaccard) +
-         (r.exact ? " (exact)" : " (excerpts only; run dedup with --store-text for whole texts)") +
+  out += "shared shingles " + Num(r.shared_shingles) + "; Jaccard of the stored texts " +
+         Fixed(r.text_jaccard) +
+         (r.exact ? " (exact)"
+                  : " (excerpts only; run dedup with --store-text for whole texts)") +
          "; estimated Jaccard " + Fixed(r.estimated_jaccard) + "\n";
   out += std::string("normalised text as the shingler sees it; ") +
-         (style.colour ? "shared shingles in green" : "shared shingles in [brackets]") + "\n\n";
+         (style.colour ? "shared shingles in green" : "shared shingles in [brackets]") +
+         "\n\n";
   const auto words_a = Words(r.runs_a), words_b = Words(r.runs_b);
   if (!style.side_by_side) {
     std::vector<size_t> wa, wb;
     out += Section("A " + r.a.id, style);
-    for (const auto& l : WrapMarked(words_a, static_cast<size_t>(std::max(20, style.width)), style, &wa)) out += l + "\n";
+    for (const auto& l :
+         WrapMarked(words_a, static_cast<size_t>(std::max(20, style.width)), style, &wa))
+      out += l + "\n";
     out += "\n" + Section("B " + r.b.id, style);
-    for (const auto& l : WrapMarked(words_b, static_cast<size_t>(std::max(20, style.width)), style, &wb)) out += l + "\n";
+    for (const auto& l :
+         WrapMarked(words_b, static_cast<size_t>(std::max(20, style.width)), style, &wb))
+      out += l + "\n";
     return out;
   }
   const size_t col = static_cast<size_t>(std::max(20, (style.width - 3) / 2));
   std::vector<size_t> wa, wb;
-  const auto la = WrapMarked(words_a, col, style, &wa), lb = WrapMarked(words_b, col, style, &wb);
+  const auto la = WrapMarked(words_a, col, style, &wa),
+             lb = WrapMarked(words_b, col, style, &wb);
   out += Pad(Paint("A " + r.a.id, kBold, style), col, false) + " | " +
          Paint("B " + r.b.id, kBold, style) + "\n";
   for (size_t i = 0; i < std::max(la.size(), lb.size()); ++i) {
@@ -486,15 +523,16 @@ StatusOr<std::string> RunInspection(const Inspector& inspector, const InspectCom
                                     const ReportStyle& style, bool json) {
   auto need = [&](size_t n) -> Status {
     if (c.args.size() == n) return Status::Ok();
-    return Status::InvalidArgument(c.command + " takes " + std::to_string(n) + " argument(s), got " +
-                                   std::to_string(c.args.size()));
+    return Status::InvalidArgument(c.command + " takes " + std::to_string(n) +
+                                   " argument(s), got " + std::to_string(c.args.size()));
   };
   if (c.command == "stats") {
     SHINGLETON_ASSIGN_OR_RETURN(StatsReport r, inspector.Stats());
     return json ? StatsJson(r) + "\n" : StatsTable(r, style);
   }
   if (c.command == "clusters") {
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<ClusterRow> rows, inspector.Clusters(c.clusters));
+    SHINGLETON_ASSIGN_OR_RETURN(std::vector<ClusterRow> rows,
+                                inspector.Clusters(c.clusters));
     return json ? ClustersJson(rows) + "\n" : ClustersTable(rows, style);
   }
   if (c.command == "cluster") {
@@ -504,12 +542,14 @@ StatusOr<std::string> RunInspection(const Inspector& inspector, const InspectCom
   }
   if (c.command == "explain") {
     SHINGLETON_RETURN_IF_ERROR(need(1));
-    SHINGLETON_ASSIGN_OR_RETURN(Explanation x, inspector.Explain(c.args[0], c.max_candidates));
+    SHINGLETON_ASSIGN_OR_RETURN(Explanation x,
+                                inspector.Explain(c.args[0], c.max_candidates));
     return json ? ExplanationJson(x) + "\n" : ExplanationTable(x, style);
   }
   if (c.command == "query") {
     SHINGLETON_RETURN_IF_ERROR(ValidateUtf8(c.text));
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<QueryHit> hits, inspector.Query(c.text, c.min_similarity, c.limit));
+    SHINGLETON_ASSIGN_OR_RETURN(std::vector<QueryHit> hits,
+                                inspector.Query(c.text, c.min_similarity, c.limit));
     return json ? QueryJson(hits) + "\n" : QueryTable(hits, style);
   }
   if (c.command == "diff") {

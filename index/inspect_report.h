@@ -15,8 +15,9 @@
 namespace shingleton {
 
 struct ReportStyle {
-  bool colour = false;  // ANSI colours (bold headers, kept/dropped, shared text). Default: off
-  int width = 100;      // text width of diff output. Default: 100
+  bool colour =
+      false;  // ANSI colours (bold headers, kept/dropped, shared text). Default: off
+  int width = 100;            // text width of diff output. Default: 100
   bool side_by_side = false;  // diff: two columns instead of one text after the other
 };
 

@@ -11,8 +11,8 @@
 namespace shingleton {
 
 struct SCurvePlot {
-  int bands = 16, rows = 8;   // the layout drawn. Default: 16 x 8
-  double threshold = 0.8;     // marked with a vertical line. Default: 0.8
+  int bands = 16, rows = 8;       // the layout drawn. Default: 16 x 8
+  double threshold = 0.8;         // marked with a vertical line. Default: 0.8
   int width = 640, height = 420;  // pixels. Default: 640 x 420
 };
 

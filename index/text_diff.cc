@@ -11,19 +11,21 @@ namespace {
 
 struct Shingled {
   NormalizedText text;
-  std::vector<uint64_t> hashes;                       // in text order
-  std::vector<std::pair<uint32_t, uint32_t>> spans;   // byte range of each hash
+  std::vector<uint64_t> hashes;                      // in text order
+  std::vector<std::pair<uint32_t, uint32_t>> spans;  // byte range of each hash
 };
 
 // The byte ranges of the shingle positions, by the shingler's contract (shingler.h).
-std::vector<std::pair<uint32_t, uint32_t>> Spans(const NormalizedText& t, ShingleKind kind, size_t k,
+std::vector<std::pair<uint32_t, uint32_t>> Spans(const NormalizedText& t,
+                                                 ShingleKind kind, size_t k,
                                                  size_t count) {
   std::vector<uint32_t> unit_starts;
   if (kind == ShingleKind::kWord) {
     unit_starts = t.starts;
   } else {
     for (size_t i = 0; i < t.text.size(); ++i) {
-      if ((static_cast<unsigned char>(t.text[i]) & 0xC0) != 0x80) unit_starts.push_back(i);
+      if ((static_cast<unsigned char>(t.text[i]) & 0xC0) != 0x80)
+        unit_starts.push_back(i);
     }
   }
   const size_t n = unit_starts.size();
@@ -47,7 +49,8 @@ Shingled Shingle(const SketchScheme& s, std::string_view raw) {
   Normalizer normalizer;
   normalizer.Normalize(raw, &out.text);
   ShingleHashes(out.text, s.shingle_kind, s.shingle_size, s.seed, &out.hashes);
-  out.spans = Spans(out.text, s.shingle_kind, static_cast<size_t>(s.shingle_size), out.hashes.size());
+  out.spans = Spans(out.text, s.shingle_kind, static_cast<size_t>(s.shingle_size),
+                    out.hashes.size());
   return out;
 }
 
@@ -70,14 +73,16 @@ std::vector<TextRun> Runs(const Shingled& x, const std::unordered_set<uint64_t>&
 
 }  // namespace
 
-std::vector<uint64_t> ShingleSetOfText(const SketchScheme& scheme, std::string_view text) {
+std::vector<uint64_t> ShingleSetOfText(const SketchScheme& scheme,
+                                       std::string_view text) {
   Normalizer normalizer;
   NormalizedText normalized;
   normalizer.Normalize(text, &normalized);
   return ShingleSet(normalized, scheme.shingle_kind, scheme.shingle_size, scheme.seed);
 }
 
-SharedShingles MarkSharedShingles(const SketchScheme& scheme, std::string_view a, std::string_view b) {
+SharedShingles MarkSharedShingles(const SketchScheme& scheme, std::string_view a,
+                                  std::string_view b) {
   const Shingled sa = Shingle(scheme, a), sb = Shingle(scheme, b);
   const std::unordered_set<uint64_t> set_a(sa.hashes.begin(), sa.hashes.end());
   const std::unordered_set<uint64_t> set_b(sb.hashes.begin(), sb.hashes.end());

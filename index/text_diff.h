@@ -32,7 +32,8 @@ struct SharedShingles {
 };
 
 // REQUIRES: both texts are valid UTF-8.
-SharedShingles MarkSharedShingles(const SketchScheme& scheme, std::string_view a, std::string_view b);
+SharedShingles MarkSharedShingles(const SketchScheme& scheme, std::string_view a,
+                                  std::string_view b);
 
 // The distinct shingle hashes of a raw text under the scheme (sorted).
 std::vector<uint64_t> ShingleSetOfText(const SketchScheme& scheme, std::string_view text);

@@ -5,8 +5,8 @@
 #include <fstream>
 
 #include "index/minhash.h"
-#include "index/text_diff.h"
 #include "index/shingler.h"
+#include "index/text_diff.h"
 
 namespace shingleton {
 namespace {
@@ -14,7 +14,8 @@ namespace {
 LayoutRow Row(double t, int bands, int rows, double fp_weight) {
   LayoutRow row;
   row.banding = EvaluateBanding(t, bands, rows);
-  row.cost = fp_weight * row.banding.false_positive_area + (1 - fp_weight) * row.banding.false_negative_area;
+  row.cost = fp_weight * row.banding.false_positive_area +
+             (1 - fp_weight) * row.banding.false_negative_area;
   row.p_at_threshold = CandidateProbability(t, bands, rows);
   return row;
 }
@@ -33,7 +34,8 @@ std::vector<std::string> SplitTabs(const std::string& line) {
 
 bool SharesBucket(const SketchScheme& s, const uint32_t* a, const uint32_t* b) {
   for (int band = 0; band < s.bands; ++band) {
-    if (BandBucket(a, band, s.rows, s.seed) == BandBucket(b, band, s.rows, s.seed)) return true;
+    if (BandBucket(a, band, s.rows, s.seed) == BandBucket(b, band, s.rows, s.seed))
+      return true;
   }
   return false;
 }
@@ -54,18 +56,23 @@ double BinomialTail(int n, double p, int m) {
   if (p >= 1) return 1;
   double sum = 0;
   for (int i = m; i <= n; ++i) {
-    const double log_term = std::lgamma(n + 1.0) - std::lgamma(i + 1.0) - std::lgamma(n - i + 1.0) +
-                            i * std::log(p) + (n - i) * std::log1p(-p);
+    const double log_term = std::lgamma(n + 1.0) - std::lgamma(i + 1.0) -
+                            std::lgamma(n - i + 1.0) + i * std::log(p) +
+                            (n - i) * std::log1p(-p);
     sum += std::exp(log_term);
   }
   return std::min(1.0, sum);
 }
 
 StatusOr<TuneReport> Tune(const TuneOptions& o, size_t alternatives) {
-  if (!(o.threshold > 0 && o.threshold < 1)) return Status::InvalidArgument("--threshold must be in (0, 1)");
-  if (o.num_hashes < 1 || o.num_hashes > 4096) return Status::InvalidArgument("--hashes must be in [1, 4096]");
-  if (!(o.fp_weight >= 0 && o.fp_weight <= 1)) return Status::InvalidArgument("--fp-weight must be in [0, 1]");
-  if ((o.bands > 0) != (o.rows > 0)) return Status::InvalidArgument("give both --bands and --rows, or neither");
+  if (!(o.threshold > 0 && o.threshold < 1))
+    return Status::InvalidArgument("--threshold must be in (0, 1)");
+  if (o.num_hashes < 1 || o.num_hashes > 4096)
+    return Status::InvalidArgument("--hashes must be in [1, 4096]");
+  if (!(o.fp_weight >= 0 && o.fp_weight <= 1))
+    return Status::InvalidArgument("--fp-weight must be in [0, 1]");
+  if ((o.bands > 0) != (o.rows > 0))
+    return Status::InvalidArgument("give both --bands and --rows, or neither");
   if (o.bands > 0 && o.bands * o.rows > o.num_hashes) {
     return Status::InvalidArgument("--bands x --rows exceeds --hashes");
   }
@@ -87,7 +94,8 @@ StatusOr<TuneReport> Tune(const TuneOptions& o, size_t alternatives) {
   if (r.alternatives.size() > alternatives) r.alternatives.resize(alternatives);
   for (int i = 1; i <= 10; ++i) {
     const double s = i / 10.0;
-    r.curve.push_back({s, CandidateProbability(s, r.best.banding.bands, r.best.banding.rows)});
+    r.curve.push_back(
+        {s, CandidateProbability(s, r.best.banding.bands, r.best.banding.rows)});
   }
   return r;
 }
@@ -102,7 +110,8 @@ StatusOr<std::vector<LabelledPair>> ReadLabels(const std::string& path) {
     if (line.empty() || line[0] == '#') continue;
     const std::string where = path + ":" + std::to_string(number);
     std::vector<std::string> f = SplitTabs(line);
-    if (f.size() != 3) return Status::BadInput(where + ": expected ID_A<TAB>ID_B<TAB>LABEL");
+    if (f.size() != 3)
+      return Status::BadInput(where + ": expected ID_A<TAB>ID_B<TAB>LABEL");
     LabelledPair p{f[0], f[1], false, 0, false, where};
     if (f[2] == "same" || f[2] == "different") {
       p.same = f[2] == "same";
@@ -110,7 +119,9 @@ StatusOr<std::vector<LabelledPair>> ReadLabels(const std::string& path) {
       char* end = nullptr;
       p.similarity = std::strtod(f[2].c_str(), &end);
       if (f[2].empty() || *end != '\0' || !(p.similarity >= 0 && p.similarity <= 1)) {
-        return Status::BadInput(where + ": label \"" + f[2] + "\" is neither a similarity in [0, 1] nor same/different");
+        return Status::BadInput(
+            where + ": label \"" + f[2] +
+            "\" is neither a similarity in [0, 1] nor same/different");
       }
       p.has_similarity = true;
     }
@@ -119,7 +130,8 @@ StatusOr<std::vector<LabelledPair>> ReadLabels(const std::string& path) {
   return out;
 }
 
-StatusOr<LabelReport> MeasureLabels(const IndexStore& store, const std::vector<LabelledPair>& pairs,
+StatusOr<LabelReport> MeasureLabels(const IndexStore& store,
+                                    const std::vector<LabelledPair>& pairs,
                                     const std::vector<double>& thresholds) {
   const SketchScheme& scheme = store.scheme();
   LabelReport report;
@@ -139,12 +151,14 @@ StatusOr<LabelReport> MeasureLabels(const IndexStore& store, const std::vector<L
     sp.label = &p;
     sp.estimated = EstimateJaccard(sa.data(), sb.data(), scheme.num_hashes);
     sp.candidate = SharesBucket(scheme, sa.data(), sb.data());
-    const bool whole = da->excerpt.size() == da->text_bytes && db->excerpt.size() == db->text_bytes;
+    const bool whole =
+        da->excerpt.size() == da->text_bytes && db->excerpt.size() == db->text_bytes;
     if (p.has_similarity) {
       sp.s = p.similarity;
     } else if (whole) {
       all_labels = false;
-      sp.s = ExactJaccard(ShingleSetOfText(scheme, da->excerpt), ShingleSetOfText(scheme, db->excerpt));
+      sp.s = ExactJaccard(ShingleSetOfText(scheme, da->excerpt),
+                          ShingleSetOfText(scheme, db->excerpt));
     } else {
       all_labels = all_exact = false;
       sp.s = sp.estimated;
@@ -152,7 +166,9 @@ StatusOr<LabelReport> MeasureLabels(const IndexStore& store, const std::vector<L
     scored.push_back(sp);
   }
   report.pairs = scored.size();
-  report.similarity_source = all_labels ? "labels" : all_exact ? "exact (stored text)" : "estimated (signatures)";
+  report.similarity_source = all_labels  ? "labels"
+                             : all_exact ? "exact (stored text)"
+                                         : "estimated (signatures)";
   const int k = scheme.num_hashes;
   for (double t : thresholds) {
     MeasuredRow row;
@@ -160,17 +176,21 @@ StatusOr<LabelReport> MeasureLabels(const IndexStore& store, const std::vector<L
     const int m = static_cast<int>(std::ceil(t * k - 1e-9));
     double q_true = 0, q_all = 0;
     for (const ScoredPair& sp : scored) {
-      const bool truth = sp.label->has_similarity ? sp.label->similarity >= t : sp.label->same;
+      const bool truth =
+          sp.label->has_similarity ? sp.label->similarity >= t : sp.label->same;
       const bool detected = sp.candidate && sp.estimated >= t;
-      const double q = CandidateProbability(sp.s, scheme.bands, scheme.rows) * BinomialTail(k, sp.s, m);
+      const double q = CandidateProbability(sp.s, scheme.bands, scheme.rows) *
+                       BinomialTail(k, sp.s, m);
       row.true_pairs += truth;
       row.detected += detected;
       row.true_detected += truth && detected;
       q_all += q;
       if (truth) q_true += q;
     }
-    row.precision = row.detected ? static_cast<double>(row.true_detected) / row.detected : 1;
-    row.recall = row.true_pairs ? static_cast<double>(row.true_detected) / row.true_pairs : 1;
+    row.precision =
+        row.detected ? static_cast<double>(row.true_detected) / row.detected : 1;
+    row.recall =
+        row.true_pairs ? static_cast<double>(row.true_detected) / row.true_pairs : 1;
     row.predicted_precision = q_all > 0 ? q_true / q_all : 1;
     row.predicted_recall = row.true_pairs ? q_true / row.true_pairs : 1;
     report.rows.push_back(row);

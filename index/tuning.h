@@ -28,16 +28,18 @@
 namespace shingleton {
 
 struct TuneOptions {
-  double threshold = 0.8;   // REQUIRES 0 < t < 1. Default: 0.8
-  int num_hashes = 128;     // Default: 128
-  double fp_weight = 1 - kDefaultFnWeight;  // weight of the false-positive area. Default: 0.05
-  int bands = 0, rows = 0;  // a layout to evaluate instead of choosing one. Default: 0 (choose)
+  double threshold = 0.8;  // REQUIRES 0 < t < 1. Default: 0.8
+  int num_hashes = 128;    // Default: 128
+  double fp_weight =
+      1 - kDefaultFnWeight;  // weight of the false-positive area. Default: 0.05
+  int bands = 0,
+      rows = 0;  // a layout to evaluate instead of choosing one. Default: 0 (choose)
 };
 
 struct LayoutRow {
   Banding banding;
-  double cost = 0;                 // fp_weight * FP area + (1 - fp_weight) * FN area
-  double p_at_threshold = 0;       // P(t)
+  double cost = 0;            // fp_weight * FP area + (1 - fp_weight) * FN area
+  double p_at_threshold = 0;  // P(t)
 };
 
 struct CurvePoint {
@@ -46,9 +48,10 @@ struct CurvePoint {
 
 struct TuneReport {
   TuneOptions options;
-  LayoutRow best;                   // the chosen (or given) layout
-  std::vector<LayoutRow> alternatives;  // per rows count r, the most bands fitting k; by cost
-  std::vector<CurvePoint> curve;    // s = 0.1, 0.2, ..., 1.0
+  LayoutRow best;  // the chosen (or given) layout
+  std::vector<LayoutRow>
+      alternatives;               // per rows count r, the most bands fitting k; by cost
+  std::vector<CurvePoint> curve;  // s = 0.1, 0.2, ..., 1.0
 };
 
 StatusOr<TuneReport> Tune(const TuneOptions& options, size_t alternatives = 6);
@@ -72,22 +75,24 @@ StatusOr<std::vector<LabelledPair>> ReadLabels(const std::string& path);
 struct MeasuredRow {
   double threshold = 0;
   uint64_t true_pairs = 0, detected = 0, true_detected = 0;
-  double precision = 1, recall = 1;                     // measured (1 when undefined)
+  double precision = 1, recall = 1;                      // measured (1 when undefined)
   double predicted_precision = 1, predicted_recall = 1;  // from q(s, t)
 };
 
 struct LabelReport {
   std::string scheme;
   uint64_t pairs = 0;
-  uint64_t unknown_ids = 0;          // pairs naming an id not in the index (left out)
-  std::string similarity_source;     // "labels", "exact (stored text)" or "estimated (signatures)"
+  uint64_t unknown_ids = 0;  // pairs naming an id not in the index (left out)
+  std::string
+      similarity_source;  // "labels", "exact (stored text)" or "estimated (signatures)"
   std::vector<MeasuredRow> rows;
 };
 
 // s of a pair for the prediction: the label's similarity; else the exact Jaccard
 // of the stored texts when both are whole (dedup --store-text); else the
 // estimated Jaccard of the signatures.
-StatusOr<LabelReport> MeasureLabels(const IndexStore& store, const std::vector<LabelledPair>& pairs,
+StatusOr<LabelReport> MeasureLabels(const IndexStore& store,
+                                    const std::vector<LabelledPair>& pairs,
                                     const std::vector<double>& thresholds);
 
 }  // namespace shingleton

@@ -2,11 +2,12 @@
 // use signatures built so that estimated Jaccard (the fraction of equal MinHash
 // positions, by definition) is exact by construction, and a text corpus whose
 // word 5-gram Jaccard values are worked out by hand.
+#include "index/chain_guard.h"
+
 #include <gtest/gtest.h>
 
 #include <random>
 
-#include "index/chain_guard.h"
 #include "index/clusters.h"
 #include "index/doc_table.h"
 #include "index/inspect.h"
@@ -39,7 +40,8 @@ Edge EdgeOf(const std::string& x, const std::string& y, float s) {
 
 // sig with positions [from, to) replaced by fresh values: agreement with the
 // original is exactly 1 - (to - from) / k.
-std::vector<uint32_t> Changed(std::vector<uint32_t> sig, int from, int to, uint32_t salt) {
+std::vector<uint32_t> Changed(std::vector<uint32_t> sig, int from, int to,
+                              uint32_t salt) {
   for (int i = from; i < to; ++i) sig[i] = 0x80000000u + salt * 1000 + i;
   return sig;
 }
@@ -64,7 +66,8 @@ Chain MakeChain() {
   EXPECT_TRUE(ch.table.Add(Meta("B", 300), b.data()).ok());
   EXPECT_TRUE(ch.table.Add(Meta("C", 200), c.data()).ok());
   EXPECT_TRUE(ch.table.Add(Meta("D", 100), d.data()).ok());
-  ch.edges = {EdgeOf("A", "B", 0.84375f), EdgeOf("B", "C", 0.84375f), EdgeOf("C", "D", 118.0f / 128)};
+  ch.edges = {EdgeOf("A", "B", 0.84375f), EdgeOf("B", "C", 0.84375f),
+              EdgeOf("C", "D", 118.0f / 128)};
   return ch;
 }
 
@@ -123,15 +126,18 @@ TEST(ChainGuardTest, DedupChainGuardOnAConstructedChain) {
     for (int i = from; i < 500; ++i) t += (t.empty() ? "" : " ") + words[i];
     return t;
   };
-  std::string corpus = JsonLine("A", text(0)) + JsonLine("B", text(50)) + JsonLine("C", text(100));
+  std::string corpus =
+      JsonLine("A", text(0)) + JsonLine("B", text(50)) + JsonLine("C", text(100));
   for (int u = 0; u < 5; ++u) {
     std::string t;
-    for (int i = 0; i < 200; ++i) t += "u" + std::to_string(u) + "x" + std::to_string(i) + " ";
+    for (int i = 0; i < 200; ++i)
+      t += "u" + std::to_string(u) + "x" + std::to_string(i) + " ";
     corpus += JsonLine("U" + std::to_string(u), t);
   }
   WriteFile(dir.File("in.jsonl"), corpus);
-  const std::vector<std::string> job = {"dedup", "--input", dir.File("in.jsonl"), "--threshold", "0.85",
-                                        "--hashes", "512", "--quiet", "--out"};
+  const std::vector<std::string> job = {"dedup",       "--input", dir.File("in.jsonl"),
+                                        "--threshold", "0.85",    "--hashes",
+                                        "512",         "--quiet", "--out"};
   auto with = [&](std::vector<std::string> args, std::vector<std::string> more) {
     args.insert(args.end(), more.begin(), more.end());
     return args;
@@ -163,8 +169,10 @@ TEST(ChainGuardTest, DedupChainGuardOnAConstructedChain) {
   EXPECT_EQ(fixed.kept_of.at("C"), "C");  // similar to no kept document: kept
   for (const auto& [id, s] : fixed.similarity) EXPECT_GE(s, 0.85) << id;
   const std::string summary = ReadFile(dir.File("guarded") + "/summary.json");
-  EXPECT_NE(summary.find("\"chain_guard\":{\"bound\":0.8500,\"clusters_guarded\":1,\"members_kept\":1"),
-            std::string::npos)
+  EXPECT_NE(
+      summary.find(
+          "\"chain_guard\":{\"bound\":0.8500,\"clusters_guarded\":1,\"members_kept\":1"),
+      std::string::npos)
       << summary;
 }
 
@@ -186,16 +194,23 @@ TEST(ChainGuardTest, DeterministicForInputOrderAndThreads) {
   std::string reversed;
   for (auto it = lines.rbegin(); it != lines.rend(); ++it) reversed += *it + "\n";
   WriteFile(dir.File("reversed.jsonl"), reversed);
-  ASSERT_EQ(RunShingleton({"dedup", "--input", DemoCorpusPath(), "--out", dir.File("a"), "--chain-guard", "-j", "1",
-                           "--quiet"}).exit_code, 0);
-  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("reversed.jsonl"), "--out", dir.File("b"), "--chain-guard",
-                           "-j", "2", "--quiet"}).exit_code, 0);
+  ASSERT_EQ(RunShingleton({"dedup", "--input", DemoCorpusPath(), "--out", dir.File("a"),
+                           "--chain-guard", "-j", "1", "--quiet"})
+                .exit_code,
+            0);
+  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("reversed.jsonl"), "--out",
+                           dir.File("b"), "--chain-guard", "-j", "2", "--quiet"})
+                .exit_code,
+            0);
   const Manifests a = ReadManifests(dir.File("a")), b = ReadManifests(dir.File("b"));
   EXPECT_EQ(a.kept_of, b.kept_of);
   EXPECT_EQ(a.similarity, b.similarity);
   size_t moved = 0;
   const Manifests plain = [&] {
-    EXPECT_EQ(RunShingleton({"dedup", "--input", DemoCorpusPath(), "--out", dir.File("p"), "--quiet"}).exit_code, 0);
+    EXPECT_EQ(RunShingleton({"dedup", "--input", DemoCorpusPath(), "--out", dir.File("p"),
+                             "--quiet"})
+                  .exit_code,
+              0);
     return ReadManifests(dir.File("p"));
   }();
   for (const auto& [id, kept] : a.kept_of) moved += plain.kept_of.at(id) != kept;

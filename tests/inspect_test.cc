@@ -3,6 +3,8 @@
 // drop.jsonl, summary.json), the planted families of demo_data/truth.tsv, exact
 // Jaccard by definition (|A ∩ B| / |A ∪ B| of word 5-gram sets, computed by the
 // brute-force helper in test_util), and hand-worked shingle sets.
+#include "index/inspect.h"
+
 #include <gtest/gtest.h>
 #include <simdjson.h>
 
@@ -11,7 +13,6 @@
 #include <set>
 
 #include "index/dedup_job.h"
-#include "index/inspect.h"
 #include "index/inspect_report.h"
 #include "tests/process_util.h"
 #include "tests/test_util.h"
@@ -27,7 +28,8 @@ class InspectTest : public ::testing::Test {
   static void SetUpTestSuite() {
     dir_ = new TempDir();
     for (const char* name : {"plain", "text"}) {
-      std::vector<std::string> args = {"dedup", "--input", DemoCorpusPath(), "--out", dir_->File(name), "--quiet"};
+      std::vector<std::string> args = {"dedup", "--input",        DemoCorpusPath(),
+                                       "--out", dir_->File(name), "--quiet"};
       if (std::string(name) == "text") args.push_back("--store-text");
       RunResult r = RunShingleton(args);
       ASSERT_EQ(r.exit_code, 0) << r.output;
@@ -44,7 +46,9 @@ class InspectTest : public ::testing::Test {
     delete text_;
     delete dir_;
   }
-  static std::string Index(const char* name = "plain") { return dir_->File(name) + "/index"; }
+  static std::string Index(const char* name = "plain") {
+    return dir_->File(name) + "/index";
+  }
   static std::vector<ManifestLine> Drops(const char* name = "plain") {
     return ReadManifestLines(dir_->File(name) + "/drop.jsonl");
   }
@@ -89,18 +93,25 @@ TEST_F(InspectTest, StatsAgreeWithTheManifests) {
   EXPECT_GT(double(e["bytes_per_document"]), 0.0);
   EXPECT_DOUBLE_EQ(double(e["threshold"]), 0.8);
   EXPECT_EQ(std::string_view(e["keep_policy"]), "longest");
-  for (const auto& [reason, n] : reasons) EXPECT_EQ(uint64_t(e["dropped_by_reason"][reason]), n) << reason;
+  for (const auto& [reason, n] : reasons)
+    EXPECT_EQ(uint64_t(e["dropped_by_reason"][reason]), n) << reason;
   uint64_t in_histogram = 0;
-  for (simdjson::dom::element bin : e["cluster_sizes"].get_array()) in_histogram += uint64_t(bin["clusters"]);
+  for (simdjson::dom::element bin : e["cluster_sizes"].get_array())
+    in_histogram += uint64_t(bin["clusters"]);
   EXPECT_EQ(in_histogram, clusters);
   auto summary = parser.parse(ReadFile(dir_->File("plain") + "/summary.json"));
-  EXPECT_EQ(std::string(std::string_view(e["scheme"])), std::string(std::string_view(summary["scheme"])));
+  EXPECT_EQ(std::string(std::string_view(e["scheme"])),
+            std::string(std::string_view(summary["scheme"])));
 
-  const std::string table = Run({"inspect", "stats", "--index", Index(), "--colour", "never"});
+  const std::string table =
+      Run({"inspect", "stats", "--index", Index(), "--colour", "never"});
   EXPECT_NE(table.find("documents                2500\n"), std::string::npos) << table;
-  EXPECT_NE(table.find("dropped                  " + std::to_string(drops.size()) + "\n"), std::string::npos) << table;
+  EXPECT_NE(table.find("dropped                  " + std::to_string(drops.size()) + "\n"),
+            std::string::npos)
+      << table;
   EXPECT_EQ(table.find("\x1b["), std::string::npos) << "colour without a terminal";
-  const std::string coloured = Run({"inspect", "stats", "--index", Index(), "--colour", "always"});
+  const std::string coloured =
+      Run({"inspect", "stats", "--index", Index(), "--colour", "always"});
   EXPECT_NE(coloured.find("\x1b[1m"), std::string::npos);
 }
 
@@ -131,16 +142,21 @@ TEST_F(InspectTest, ClustersBySizeAndBySpread) {
   q.sort_by_spread = true;
   auto by_spread = plain_->Clusters(q);
   ASSERT_TRUE(by_spread.ok());
-  for (size_t i = 1; i < by_spread->size(); ++i) EXPECT_LE((*by_spread)[i - 1].spread, (*by_spread)[i].spread);
+  for (size_t i = 1; i < by_spread->size(); ++i)
+    EXPECT_LE((*by_spread)[i - 1].spread, (*by_spread)[i].spread);
   q.chains_only = true;
   auto chains = plain_->Clusters(q);
   ASSERT_TRUE(chains.ok());
   for (const ClusterRow& r : *chains) EXPECT_LT(r.spread, 0.8);
 
-  const std::string table = Run({"inspect", "clusters", "--index", Index(), "--limit", "3"});
+  const std::string table =
+      Run({"inspect", "clusters", "--index", Index(), "--limit", "3"});
   const ClusterRow& top = (*all)[0];
-  EXPECT_EQ(table.rfind("cluster           size  spread  kept document\n" + top.cluster, 0), 0u) << table;
-  const std::string json = Run({"inspect", "clusters", "--index", Index(), "--limit", "3", "--json"});
+  EXPECT_EQ(
+      table.rfind("cluster           size  spread  kept document\n" + top.cluster, 0), 0u)
+      << table;
+  const std::string json =
+      Run({"inspect", "clusters", "--index", Index(), "--limit", "3", "--json"});
   simdjson::dom::parser parser;
   simdjson::dom::array rows = parser.parse(json).get_array();
   ASSERT_EQ(rows.size(), 3u);
@@ -173,17 +189,24 @@ TEST_F(InspectTest, ClusterMembersWithEstimatedAndExactJaccard) {
       EXPECT_NEAR(m.decision.similarity, d.similarity, 5e-5);
     }
     ASSERT_GE(m.exact_jaccard, 0) << m.doc.id;
-    EXPECT_NEAR(m.exact_jaccard, ExactJaccardOf(corpus.texts[at.at(m.doc.id)], kept_text), 1e-9) << m.doc.id;
+    EXPECT_NEAR(m.exact_jaccard, ExactJaccardOf(corpus.texts[at.at(m.doc.id)], kept_text),
+                1e-9)
+        << m.doc.id;
   }
   // Without stored text there is no exact Jaccard, and the table says how to get it.
-  const std::string table = Run({"inspect", "cluster", (*largest)[0].cluster, "--index", Index()});
-  EXPECT_NE(table.find("exact J needs the whole texts: run dedup with --store-text"), std::string::npos) << table;
-  const std::string json = Run({"inspect", "cluster", (*largest)[0].kept_id, "--index", Index("text"), "--json"});
+  const std::string table =
+      Run({"inspect", "cluster", (*largest)[0].cluster, "--index", Index()});
+  EXPECT_NE(table.find("exact J needs the whole texts: run dedup with --store-text"),
+            std::string::npos)
+      << table;
+  const std::string json = Run(
+      {"inspect", "cluster", (*largest)[0].kept_id, "--index", Index("text"), "--json"});
   simdjson::dom::parser parser;
   simdjson::dom::element e = parser.parse(json);
   EXPECT_EQ(uint64_t(e["size"]), (*largest)[0].size);
   simdjson::dom::element first = e["members"].at(0);
-  for (const char* field : {"id", "url", "text_bytes", "kept", "similarity", "exact_jaccard", "cluster"}) {
+  for (const char* field :
+       {"id", "url", "text_bytes", "kept", "similarity", "exact_jaccard", "cluster"}) {
     EXPECT_FALSE(first[field].error()) << field;
   }
 }
@@ -208,7 +231,8 @@ TEST_F(InspectTest, ExplainAgreesWithDropJsonlForEveryDrop) {
     EXPECT_EQ(x->chain.front().from, d.id);
     EXPECT_EQ(x->chain.back().to, d.duplicate_of);
     for (size_t i = 0; i < x->chain.size(); ++i) {
-      EXPECT_GE(x->chain[i].similarity, 0.8) << d.id << " hop " << i;  // verified edges only
+      EXPECT_GE(x->chain[i].similarity, 0.8)
+          << d.id << " hop " << i;  // verified edges only
       if (i) {
         EXPECT_EQ(x->chain[i - 1].to, x->chain[i].from);
       }
@@ -234,7 +258,8 @@ TEST_F(InspectTest, ExplainAgreesWithDropJsonlForEveryDrop) {
     EXPECT_TRUE(x->chain.empty());
   }
   const ManifestLine& d = drops.front();
-  const std::string json = Run({"inspect", "explain", d.id, "--index", Index(), "--json"});
+  const std::string json =
+      Run({"inspect", "explain", d.id, "--index", Index(), "--json"});
   simdjson::dom::parser parser;
   simdjson::dom::element e = parser.parse(json);
   EXPECT_EQ(std::string_view(e["duplicate_of"]), d.duplicate_of);
@@ -242,7 +267,10 @@ TEST_F(InspectTest, ExplainAgreesWithDropJsonlForEveryDrop) {
   EXPECT_GT(e["evidence"].get_array().size(), 0u);
   EXPECT_GT(e["chain"].get_array().size(), 0u);
   const std::string table = Run({"inspect", "explain", d.id, "--index", Index()});
-  EXPECT_EQ(table.rfind(d.id + ": dropped (" + d.reason + ") as a duplicate of " + d.duplicate_of + "\n", 0), 0u)
+  EXPECT_EQ(table.rfind(d.id + ": dropped (" + d.reason + ") as a duplicate of " +
+                            d.duplicate_of + "\n",
+                        0),
+            0u)
       << table;
   EXPECT_NE(table.find("Chain of edges to the kept document"), std::string::npos);
 }
@@ -270,12 +298,14 @@ TEST_F(InspectTest, QueryFindsThePlantedNearDuplicates) {
     std::map<std::string, double> found;
     for (const QueryHit& h : *hits) found[h.id] = h.similarity;
     EXPECT_DOUBLE_EQ(found[corpus.ids[i]], 1.0);
-    for (const auto& [id, s] : found) EXPECT_EQ(truth.at(id).family, t.family) << id << " for " << corpus.ids[i];
+    for (const auto& [id, s] : found)
+      EXPECT_EQ(truth.at(id).family, t.family) << id << " for " << corpus.ids[i];
     for (const std::string& member : family[t.family]) {
       const TruthRow& m = truth.at(member);
       if (m.kind == "exact" || m.kind == "case-punct") {
         ++copies;
-        ASSERT_TRUE(found.count(member)) << member << " (" << m.kind << ") of " << corpus.ids[i];
+        ASSERT_TRUE(found.count(member))
+            << member << " (" << m.kind << ") of " << corpus.ids[i];
         EXPECT_DOUBLE_EQ(found[member], 1.0);
       } else if (m.kind == "edit" && m.edit_rate <= 0.01) {
         ++light;
@@ -288,13 +318,15 @@ TEST_F(InspectTest, QueryFindsThePlantedNearDuplicates) {
   // The binary reads the text from a file or standard input.
   const std::string base = corpus.ids[0];
   WriteFile(dir_->File("q.txt"), corpus.texts[0]);
-  const std::string json = Run({"inspect", "query", "--text-file", dir_->File("q.txt"), "--index", Index(), "--json"});
+  const std::string json = Run({"inspect", "query", "--text-file", dir_->File("q.txt"),
+                                "--index", Index(), "--json"});
   simdjson::dom::parser parser;
   simdjson::dom::array rows = parser.parse(json).get_array();
   ASSERT_GT(rows.size(), 0u);
   bool self = false;
   for (simdjson::dom::element r : rows) {
-    for (const char* field : {"id", "url", "similarity", "bands", "decision"}) EXPECT_FALSE(r[field].error());
+    for (const char* field : {"id", "url", "similarity", "bands", "decision"})
+      EXPECT_FALSE(r[field].error());
     self = self || std::string_view(r["id"]) == base;
   }
   EXPECT_TRUE(self);
@@ -304,10 +336,13 @@ TEST_F(InspectTest, QueryFindsThePlantedNearDuplicates) {
 // shingles "the ferry to osk leaves" and "ferry to osk leaves at".
 TEST_F(InspectTest, DiffMarksSharedShinglesGolden) {
   TempDir dir;
-  WriteFile(dir.File("in.jsonl"), JsonLine("a", "The ferry to Osk leaves at nine every morning.") +
-                                      JsonLine("b", "The ferry to Osk leaves at ten every morning!"));
-  Run({"dedup", "--input", dir.File("in.jsonl"), "--out", dir.File("out"), "--store-text", "--quiet"});
-  const std::string text = Run({"inspect", "diff", "a", "b", "--index", dir.File("out") + "/index", "--width", "60"});
+  WriteFile(dir.File("in.jsonl"),
+            JsonLine("a", "The ferry to Osk leaves at nine every morning.") +
+                JsonLine("b", "The ferry to Osk leaves at ten every morning!"));
+  Run({"dedup", "--input", dir.File("in.jsonl"), "--out", dir.File("out"), "--store-text",
+       "--quiet"});
+  const std::string text = Run({"inspect", "diff", "a", "b", "--index",
+                                dir.File("out") + "/index", "--width", "60"});
   // Golden: the shingle counts and the marking are hand-worked (5 shingles each,
   // 2 shared: exact Jaccard 2 / 8); the estimated Jaccard is the index's MinHash.
   const std::string golden =
@@ -317,7 +352,8 @@ TEST_F(InspectTest, DiffMarksSharedShinglesGolden) {
       "text bytes  46          45\n"
       "stored      whole text  whole text\n"
       "shingles    5           5\n"
-      "shared shingles 2; Jaccard of the stored texts 0.2500 (exact); estimated Jaccard 0.1797\n"
+      "shared shingles 2; Jaccard of the stored texts 0.2500 (exact); estimated Jaccard "
+      "0.1797\n"
       "normalised text as the shingler sees it; shared shingles in [brackets]\n"
       "\n"
       "A a\n"
@@ -327,15 +363,17 @@ TEST_F(InspectTest, DiffMarksSharedShinglesGolden) {
       "[the ferry to osk leaves at] ten every morning\n";
   EXPECT_EQ(text, golden);
   const std::string side =
-      Run({"inspect", "diff", "a", "b", "--index", dir.File("out") + "/index", "--width", "60", "--side-by-side"});
+      Run({"inspect", "diff", "a", "b", "--index", dir.File("out") + "/index", "--width",
+           "60", "--side-by-side"});
   EXPECT_NE(side.find("A a                          | B b\n"
                       "[the ferry to osk leaves at] | [the ferry to osk leaves at]\n"
                       "nine every morning           | ten every morning\n"),
             std::string::npos)
       << side;
-  const std::string coloured =
-      Run({"inspect", "diff", "a", "b", "--index", dir.File("out") + "/index", "--colour", "always"});
-  EXPECT_NE(coloured.find("\x1b[32mthe ferry to osk leaves at\x1b[0m nine every morning"), std::string::npos)
+  const std::string coloured = Run({"inspect", "diff", "a", "b", "--index",
+                                    dir.File("out") + "/index", "--colour", "always"});
+  EXPECT_NE(coloured.find("\x1b[32mthe ferry to osk leaves at\x1b[0m nine every morning"),
+            std::string::npos)
       << coloured;
 }
 
@@ -368,9 +406,11 @@ TEST_F(InspectTest, DiffOfAWrappedCopy) {
   Corpus corpus = ReadJsonlCorpus(DemoCorpusPath());
   std::map<std::string, size_t> at;
   for (size_t i = 0; i < corpus.ids.size(); ++i) at[corpus.ids[i]] = i;
-  EXPECT_NEAR(diff->text_jaccard, ExactJaccardOf(corpus.texts[at[base]], corpus.texts[at[variant]]), 1e-9);
+  EXPECT_NEAR(diff->text_jaccard,
+              ExactJaccardOf(corpus.texts[at[base]], corpus.texts[at[variant]]), 1e-9);
   EXPECT_EQ(diff->shingles_a, diff->shared_shingles);
-  const std::string json = Run({"inspect", "diff", base, variant, "--index", Index("text"), "--json"});
+  const std::string json =
+      Run({"inspect", "diff", base, variant, "--index", Index("text"), "--json"});
   simdjson::dom::parser parser;
   simdjson::dom::element e = parser.parse(json);
   EXPECT_TRUE(bool(e["exact"]));
@@ -388,48 +428,63 @@ TEST_F(InspectTest, GoldenTablesOfTheDemoJob) {
             "780149d2da6e4798     8  0.8125  doc-000599\n"
             "80a29de3aa98d95d     8  0.7266  doc-000254\n"
             "3e9e3b5995974d60     7  0.8516  doc-000450\n");
-  const std::string explain = Run({"inspect", "explain", "doc-001024", "--index", Index()});
+  const std::string explain =
+      Run({"inspect", "explain", "doc-001024", "--index", Index()});
   EXPECT_EQ(explain.rfind("doc-001024: dropped (near) as a duplicate of doc-000254\n"
                           "estimated Jaccard to it  0.8594\n"
-                          "cluster                  80a29de3aa98d95d (8 documents)\n", 0),
+                          "cluster                  80a29de3aa98d95d (8 documents)\n",
+                          0),
             0u)
       << explain;
   const size_t table = explain.find("other       kind");
   ASSERT_NE(table, std::string::npos) << explain;
-  EXPECT_EQ(explain.substr(table),
-            "other       kind             est. J  shared bands                           other's decision\n"
-            "doc-000798  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  dropped -> doc-000254\n"
-            "doc-001117  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  dropped -> doc-000254\n"
-            "doc-001436  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  dropped -> doc-000254\n"
-            "doc-002104  edge             0.8984  1,2,4,7,10,15                          dropped -> doc-000254\n"
-            "doc-000254  edge             0.8594  3,4,5,10,12,13                         kept\n"
-            "doc-000494  edge             0.8594  3,6,9,15                               dropped -> doc-000254\n"
-            "doc-000906  edge             0.8516  2,12,13,15                             dropped -> doc-000254\n"
-            "doc-000337  below threshold  0.6328  10                                     kept\n"
-            "\n"
-            "Chain of edges to the kept document\n"
-            "from        to          est. J  via\n"
-            "doc-001024  doc-000254  0.8594  band 3\n");
+  EXPECT_EQ(
+      explain.substr(table),
+      "other       kind             est. J  shared bands                           "
+      "other's decision\n"
+      "doc-000798  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  "
+      "dropped -> doc-000254\n"
+      "doc-001117  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  "
+      "dropped -> doc-000254\n"
+      "doc-001436  edge (exact)     1.0000  0,1,2,3,4,5,6,7,8,9,10,11,12,13,14,15  "
+      "dropped -> doc-000254\n"
+      "doc-002104  edge             0.8984  1,2,4,7,10,15                          "
+      "dropped -> doc-000254\n"
+      "doc-000254  edge             0.8594  3,4,5,10,12,13                         kept\n"
+      "doc-000494  edge             0.8594  3,6,9,15                               "
+      "dropped -> doc-000254\n"
+      "doc-000906  edge             0.8516  2,12,13,15                             "
+      "dropped -> doc-000254\n"
+      "doc-000337  below threshold  0.6328  10                                     kept\n"
+      "\n"
+      "Chain of edges to the kept document\n"
+      "from        to          est. J  via\n"
+      "doc-001024  doc-000254  0.8594  band 3\n");
 }
 
 // --store-text changes what is stored, never a decision.
 TEST_F(InspectTest, StoreTextKeepsDecisions) {
-  EXPECT_EQ(ReadFile(dir_->File("plain") + "/drop.jsonl"), ReadFile(dir_->File("text") + "/drop.jsonl"));
-  EXPECT_EQ(ReadFile(dir_->File("plain") + "/keep.jsonl"), ReadFile(dir_->File("text") + "/keep.jsonl"));
+  EXPECT_EQ(ReadFile(dir_->File("plain") + "/drop.jsonl"),
+            ReadFile(dir_->File("text") + "/drop.jsonl"));
+  EXPECT_EQ(ReadFile(dir_->File("plain") + "/keep.jsonl"),
+            ReadFile(dir_->File("text") + "/keep.jsonl"));
 }
 
 TEST_F(InspectTest, ErrorsNameWhatIsMissing) {
   RunResult r = RunShingleton({"inspect", "explain", "no-such-doc", "--index", Index()});
   EXPECT_EQ(r.exit_code, 1);
-  EXPECT_NE(r.output.find("no document with id \"no-such-doc\""), std::string::npos) << r.output;
+  EXPECT_NE(r.output.find("no document with id \"no-such-doc\""), std::string::npos)
+      << r.output;
   r = RunShingleton({"inspect", "stats"});
   EXPECT_EQ(r.exit_code, 2);
-  EXPECT_NE(r.output.find("exactly one of --index DIR and --coordinator ADDR"), std::string::npos) << r.output;
+  EXPECT_NE(r.output.find("exactly one of --index DIR and --coordinator ADDR"),
+            std::string::npos)
+      << r.output;
   for (const char* sub : {"stats", "clusters", "cluster", "explain", "query", "diff"}) {
     r = RunShingleton({"inspect", sub, "--help"});
     EXPECT_EQ(r.exit_code, 0) << sub;
-    for (const char* opt : {"--index", "--coordinator TEXT=127.0.0.1:7400", "--json", "--colour TEXT=auto",
-                            "--width INT=0"}) {
+    for (const char* opt : {"--index", "--coordinator TEXT=127.0.0.1:7400", "--json",
+                            "--colour TEXT=auto", "--width INT=0"}) {
       EXPECT_NE(r.output.find(opt), std::string::npos) << sub << " --help lacks " << opt;
     }
   }
@@ -463,14 +518,23 @@ TEST(TextTableTest, AlignsWithAndWithoutColour) {
 TEST(InspectReferenceTest, ReferenceDropsAreExplained) {
   TempDir dir;
   std::string text;
-  for (int i = 0; i < 60; ++i) text += "tide table for brellan harbour entry " + std::to_string(i) + " ";
+  for (int i = 0; i < 60; ++i)
+    text += "tide table for brellan harbour entry " + std::to_string(i) + " ";
   WriteFile(dir.File("oct.jsonl"), JsonLine("oct-1", text));
-  WriteFile(dir.File("nov.jsonl"), JsonLine("nov-1", text) + JsonLine("nov-2", "an unrelated page about ferries"));
-  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("oct.jsonl"), "--out", dir.File("oct"), "--quiet"}).exit_code, 0);
-  RunResult frozen = RunShingleton({"freeze", "--from", dir.File("oct"), "--to", dir.File("ref")});
+  WriteFile(
+      dir.File("nov.jsonl"),
+      JsonLine("nov-1", text) + JsonLine("nov-2", "an unrelated page about ferries"));
+  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("oct.jsonl"), "--out",
+                           dir.File("oct"), "--quiet"})
+                .exit_code,
+            0);
+  RunResult frozen =
+      RunShingleton({"freeze", "--from", dir.File("oct"), "--to", dir.File("ref")});
   ASSERT_EQ(frozen.exit_code, 0) << frozen.output;
-  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("nov.jsonl"), "--out", dir.File("nov"), "--reference",
-                           dir.File("ref"), "--quiet"}).exit_code, 0);
+  ASSERT_EQ(RunShingleton({"dedup", "--input", dir.File("nov.jsonl"), "--out",
+                           dir.File("nov"), "--reference", dir.File("ref"), "--quiet"})
+                .exit_code,
+            0);
   const auto drops = ReadManifestLines(dir.File("nov") + "/drop.jsonl");
   ASSERT_EQ(drops.size(), 1u);
   EXPECT_EQ(drops[0].reason, "reference-exact");

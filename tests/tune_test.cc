@@ -34,7 +34,8 @@ TEST(TuneTest, SCurveMatchesTheMmdsTable) {
                {5, 0.802, 5e-4}, {6, 0.975, 5e-4}, {7, 0.9996, 5e-5}};
   for (const auto& row : table) {
     EXPECT_NEAR(r->curve[row.index].s, (row.index + 1) / 10.0, 1e-12);
-    EXPECT_NEAR(r->curve[row.index].p, row.value, row.tolerance) << "s = " << r->curve[row.index].s;
+    EXPECT_NEAR(r->curve[row.index].p, row.value, row.tolerance)
+        << "s = " << r->curve[row.index].s;
   }
 }
 
@@ -64,7 +65,8 @@ TEST(TuneTest, BestLayoutMinimisesTheWeightedAreas) {
     double min_cost = INFINITY;
     for (int b = 1; b <= 64; ++b) {
       for (int rows = 1; b * rows <= 64; ++rows) {
-        min_cost = std::min(min_cost, 0.05 * Area(b, rows, 0, t, false) + 0.95 * Area(b, rows, t, 1, true));
+        min_cost = std::min(min_cost, 0.05 * Area(b, rows, 0, t, false) +
+                                          0.95 * Area(b, rows, t, 1, true));
       }
     }
     EXPECT_NEAR(r->best.cost, min_cost, 1e-6) << "t = " << t;
@@ -85,21 +87,26 @@ TEST(TuneTest, BinomialTailByDefinition) {
 // threshold line stands at x = 60 + t * 550 (the plot frame).
 TEST(TuneTest, SvgIsWellFormedXmlWithTheThresholdMarked) {
   TempDir dir;
-  RunResult r = RunShingleton({"tune", "--threshold", "0.85", "--hashes", "128", "--svg", dir.File("s.svg")});
+  RunResult r = RunShingleton(
+      {"tune", "--threshold", "0.85", "--hashes", "128", "--svg", dir.File("s.svg")});
   ASSERT_EQ(r.exit_code, 0) << r.output;
-  EXPECT_NE(r.output.find("best layout: 12 bands x 10 rows"), std::string::npos) << r.output;
+  EXPECT_NE(r.output.find("best layout: 12 bands x 10 rows"), std::string::npos)
+      << r.output;
   WriteFile(dir.File("check.py"),
             "import sys, xml.etree.ElementTree as ET\n"
             "ns = '{http://www.w3.org/2000/svg}'\n"
             "root = ET.parse(sys.argv[1]).getroot()\n"
             "assert root.tag == ns + 'svg', root.tag\n"
-            "pts = [tuple(map(float, p.split(','))) for p in root.find(ns + 'polyline').get('points').split()]\n"
+            "pts = [tuple(map(float, p.split(','))) for p in root.find(ns + "
+            "'polyline').get('points').split()]\n"
             "assert len(pts) == 401, len(pts)\n"
             "assert all(b[0] > a[0] and b[1] <= a[1] for a, b in zip(pts, pts[1:]))\n"
             "dashed = [l for l in root.iter(ns + 'line') if l.get('stroke-dasharray')]\n"
-            "assert len(dashed) == 1 and abs(float(dashed[0].get('x1')) - (60 + 0.85 * 550)) < 0.01\n"
+            "assert len(dashed) == 1 and abs(float(dashed[0].get('x1')) - (60 + 0.85 * "
+            "550)) < 0.01\n"
             "print('svg ok')\n");
-  const std::string cmd = "/usr/bin/python3 " + dir.File("check.py") + " " + dir.File("s.svg") + " 2>&1";
+  const std::string cmd =
+      "/usr/bin/python3 " + dir.File("check.py") + " " + dir.File("s.svg") + " 2>&1";
   FILE* p = ::popen(cmd.c_str(), "r");
   ASSERT_NE(p, nullptr);
   char buf[4096];
@@ -116,8 +123,10 @@ TEST(TuneTest, SvgIsWellFormedXmlWithTheThresholdMarked) {
 // never detected, so measured precision is 1.
 TEST(TuneTest, LabelsMeasuredNextToPredicted) {
   TempDir dir;
-  ASSERT_EQ(RunShingleton({"dedup", "--input", DemoCorpusPath(), "--out", dir.File("out"), "--store-text",
-                           "--quiet"}).exit_code, 0);
+  ASSERT_EQ(RunShingleton({"dedup", "--input", DemoCorpusPath(), "--out", dir.File("out"),
+                           "--store-text", "--quiet"})
+                .exit_code,
+            0);
   const auto truth = ReadDemoTruth();
   std::map<std::string, std::string> base_of;
   for (const auto& [id, t] : truth) {
@@ -141,8 +150,9 @@ TEST(TuneTest, LabelsMeasuredNextToPredicted) {
   }
   labels += "doc-none\t" + last_unique + "\tsame\n";
   WriteFile(dir.File("labels.tsv"), labels);
-  RunResult r = RunShingleton({"tune", "--threshold", "0.8", "--hashes", "128", "--labels", dir.File("labels.tsv"),
-                               "--index", dir.File("out") + "/index", "--json"});
+  RunResult r = RunShingleton({"tune", "--threshold", "0.8", "--hashes", "128",
+                               "--labels", dir.File("labels.tsv"), "--index",
+                               dir.File("out") + "/index", "--json"});
   ASSERT_EQ(r.exit_code, 0) << r.output;
   simdjson::dom::parser parser;
   simdjson::dom::element e;
@@ -163,25 +173,33 @@ TEST(TuneTest, LabelsMeasuredNextToPredicted) {
     const double recall = double(row["recall"]);
     EXPECT_LE(recall, last_recall + 1e-12);
     last_recall = recall;
-    std::printf("t=%.2f recall measured %.4f predicted %.4f\n", t, recall, double(row["predicted_recall"]));
+    std::printf("t=%.2f recall measured %.4f predicted %.4f\n", t, recall,
+                double(row["predicted_recall"]));
     // The model (S-curve x binomial estimate, tuning.h) on the pairs' exact Jaccard
-    // predicts the measured recall; 0.05 is our tolerance for the demo's few hundred pairs.
+    // predicts the measured recall; 0.05 is our tolerance for the demo's few hundred
+    // pairs.
     EXPECT_NEAR(recall, double(row["predicted_recall"]), 0.05) << "t = " << t;
   }
   EXPECT_EQ(rows, 7u);  // t - 0.2 .. t + 0.1 by 0.05
 
   WriteFile(dir.File("bad.tsv"), "a\tb\tsame\nx\ty\tmaybe\n");
-  RunResult bad = RunShingleton({"tune", "--labels", dir.File("bad.tsv"), "--index", dir.File("out") + "/index"});
+  RunResult bad = RunShingleton(
+      {"tune", "--labels", dir.File("bad.tsv"), "--index", dir.File("out") + "/index"});
   EXPECT_EQ(bad.exit_code, 1);
-  EXPECT_NE(bad.output.find(dir.File("bad.tsv") + ":2: label \"maybe\""), std::string::npos) << bad.output;
+  EXPECT_NE(bad.output.find(dir.File("bad.tsv") + ":2: label \"maybe\""),
+            std::string::npos)
+      << bad.output;
 }
 
 TEST(TuneTest, HelpDocumentsEveryOption) {
   RunResult r = RunShingleton({"tune", "--help"});
   EXPECT_EQ(r.exit_code, 0);
-  for (const char* opt : {"--threshold FLOAT=0.8", "--hashes INT=128", "--fp-weight FLOAT=0.05", "--bands INT=0",
-                          "--rows INT=0", "--svg", "--labels", "--index", "--at", "--json"}) {
-    EXPECT_NE(r.output.find(opt), std::string::npos) << "tune --help lacks " << opt << "\n" << r.output;
+  for (const char* opt : {"--threshold FLOAT=0.8", "--hashes INT=128",
+                          "--fp-weight FLOAT=0.05", "--bands INT=0", "--rows INT=0",
+                          "--svg", "--labels", "--index", "--at", "--json"}) {
+    EXPECT_NE(r.output.find(opt), std::string::npos)
+        << "tune --help lacks " << opt << "\n"
+        << r.output;
   }
 }
 
