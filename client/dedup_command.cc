@@ -89,14 +89,6 @@ void AddDedupCommand(CLI::App* app, int* rc) {
   cmd->add_flag("--url-revisits", o.url_revisits,
                 "Drop a document whose normalised URL is already in a reference generation (a "
                 "re-crawled page), with reason \"url\"");
-  cmd->add_flag("--chain-guard", o.chain_guard,
-                "Re-assign the members of chained clusters (spread below --chain-bound) so every "
-                "dropped document is similar to its own duplicate_of; a member similar to no kept "
-                "document is kept [default: off]");
-  cmd->add_option("--chain-bound", o.chain_bound,
-                  "Lowest similarity of a drop to its kept document under --chain-guard; 0 means "
-                  "the threshold")
-      ->capture_default_str();
   cmd->add_flag("--replace", o.replace, "Replace an existing index and manifests at the outputs");
   cmd->add_flag("-q,--quiet", flags->quiet, "Print nothing on success");
   cmd->add_flag("-v,--verbose", flags->verbose, "Log each phase of the job on stderr");

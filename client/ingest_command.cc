@@ -109,6 +109,8 @@ int RunIngest(IngestFlags& f) {
   params.set_keep_policy(o.policy.Name());
   params.set_all_pairs_limit(static_cast<uint32_t>(o.all_pairs_limit));
   params.set_max_leaders(static_cast<uint32_t>(o.max_leaders));
+  params.set_chain_guard(o.chain_guard);
+  params.set_chain_bound(o.chain_bound);
   const int k = scheme->num_hashes, bands = scheme->bands;
   uint64_t seq = 0, ordinal = 0, sent = 0, accepted = 0, repeated = 0, skipped = 0;
   const auto start = std::chrono::steady_clock::now();

@@ -51,6 +51,14 @@ void AddJobFlags(CLI::App* cmd, JobFlags* flags) {
   cmd->add_flag("--store-text", flags->store_text,
                 "Keep each whole text in the index for audit (inspect diff, exact Jaccard in "
                 "inspect cluster) instead of the --excerpt-bytes excerpt [default: off]");
+  cmd->add_flag("--chain-guard", o.chain_guard,
+                "Re-assign the members of chained clusters (spread below --chain-bound) so every "
+                "dropped document is similar to its own duplicate_of; a member similar to no kept "
+                "document is kept [default: off]");
+  cmd->add_option("--chain-bound", o.chain_bound,
+                  "Lowest similarity of a drop to its kept document under --chain-guard; 0 means "
+                  "the threshold")
+      ->capture_default_str();
   cmd->add_option("--all-pairs-limit", o.all_pairs_limit,
                   "Buckets up to this size verify every pair; larger ones compare with leaders")
       ->capture_default_str();

@@ -10,6 +10,7 @@
 #include <set>
 
 #include "index/signature_codec.h"
+#include "index/chain_guard.h"
 #include "index/clusters.h"
 #include "index/dedup_job.h"
 #include "index/doc_table.h"
@@ -125,6 +126,9 @@ StatusOr<v1::JobParams> NormalizeParams(const v1::JobParams& in) {
         "keep policy 'first' depends on arrival order, which concurrent workers do not have; "
         "use longest or field:NAME with the service");
   }
+  if (!(p.chain_bound() >= 0 && p.chain_bound() < 1)) {
+    return Status::InvalidArgument("chain bound must be in [0, 1)");
+  }
   if (p.all_pairs_limit() == 0) p.set_all_pairs_limit(64);
   if (p.max_leaders() == 0) p.set_max_leaders(16);
   return p;
@@ -220,6 +224,8 @@ StatusOr<CoordinatorService::Job*> CoordinatorService::GetOrCreateJob(const std:
     add("all-pairs limit", std::to_string(job->params.all_pairs_limit()),
         std::to_string(params.all_pairs_limit()));
     add("max leaders", std::to_string(job->params.max_leaders()), std::to_string(params.max_leaders()));
+    add("chain guard", job->params.chain_guard() ? "on" : "off", params.chain_guard() ? "on" : "off");
+    add("chain bound", std::to_string(job->params.chain_bound()), std::to_string(params.chain_bound()));
     return Status::Mismatch("job " + name + " exists with other parameters (" + diff +
                             "; job vs this request)");
   }
@@ -439,6 +445,11 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
     DropEdgesOfMatched(table, matches, &edges);
   }
   std::vector<Decision> decisions = ResolveClusters(table, edges, job->policy);
+  const double chain_bound =
+      job->params.chain_bound() > 0 ? job->params.chain_bound() : job->params.threshold();
+  if (job->params.chain_guard()) {
+    summary.chain_guard = GuardChains(table, job->policy, chain_bound, &decisions);
+  }
   std::vector<ManifestRow> rows = ManifestRows(table, decisions);
   if (refs) ApplyReferenceMatches(*refs, matches, &decisions, &rows);
   CountDecisions(decisions, &summary);
@@ -456,6 +467,8 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   described.index_path = job->store->path();
   described.threshold = job->params.threshold();
   described.policy = job->policy;
+  described.chain_guard = job->params.chain_guard();
+  described.chain_bound = job->params.chain_bound();
   const std::string summary_json = SummaryJson(described, summary);
   SHINGLETON_RETURN_IF_ERROR(job->store->PutJobRecord(summary_json));
   std::vector<v1::FinalizeResponse> chunks(1);

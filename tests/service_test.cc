@@ -379,5 +379,28 @@ TEST(ServiceTest, InspectThroughTheCoordinatorMatchesTheIndex) {
   EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
 }
 
+// The chain guard is a job parameter of the service too: the finalized decisions
+// equal the embedded job's with --chain-guard, and differ from those without it.
+TEST(ServiceTest, ChainGuardGivesTheEmbeddedDecisions) {
+  TempDir dir;
+  LocalCluster cluster(dir, 2);
+  ASSERT_TRUE(cluster.ok()) << cluster.Logs();
+  IngestConcurrently(cluster.coordinator(), SplitCorpus(dir, 2), {"--chain-guard"});
+  RunResult fin = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                 "--out", dir.File("service")});
+  ASSERT_EQ(fin.exit_code, 0) << fin.output;
+  RunResult embedded = RunShingleton({"dedup", "--input", kCorpus, "--out", dir.File("guarded"),
+                                      "--chain-guard", "--quiet"});
+  ASSERT_EQ(embedded.exit_code, 0) << embedded.output;
+  const Manifests service = ReadManifests(dir.File("service"));
+  EXPECT_EQ(service.kept_of, ReadManifests(dir.File("guarded")).kept_of);
+  EXPECT_NE(service.kept_of, EmbeddedDecisions(dir).kept_of);
+  RunResult other = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                   "--input", kCorpus});
+  EXPECT_NE(other.exit_code, 0);
+  EXPECT_NE(other.output.find("chain guard on vs off"), std::string::npos) << other.output;
+  EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
+}
+
 }  // namespace
 }  // namespace shingleton
