@@ -311,8 +311,9 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   if (refs) {
     report("references");
     SHINGLETON_ASSIGN_OR_RETURN(
-        matches, MatchReferences(*refs, table, ingested.normalized_urls, o.threshold, o.url_revisits,
-                                 ResolveThreads(o.ingest.threads)));
+        matches, MatchReferences(*refs, table, ingested.normalized_urls,
+                                 {o.threshold, o.url_revisits, ResolveThreads(o.ingest.threads),
+                                  o.reference_lookup}));
     DropEdgesOfMatched(table, matches, &edges);
   }
   summary.seconds_candidates = SecondsSince(t);

@@ -26,6 +26,7 @@
 #include "index/ingest_pipeline.h"
 #include "index/keep_policy.h"
 #include "index/record_parser.h"
+#include "index/reference_resolution.h"
 #include "index/reference_set.h"
 #include "index/scheme.h"
 #include "index/status.h"
@@ -64,6 +65,9 @@ struct DedupOptions {
   // Drop a document whose normalised URL is in a reference generation (a re-crawl),
   // with reason "url". Default: false.
   bool url_revisits = false;
+  // How near candidates are found in the references (reference_resolution.h);
+  // both give the same decisions. Default: merge (sorted band keys, sequential reads).
+  ReferenceLookup reference_lookup = ReferenceLookup::kMerge;
   ProgressFn progress;             // called from the job's threads, at most ~5 times/s
 };
 

@@ -29,6 +29,15 @@ TempDir::~TempDir() {
   fs::remove_all(path_, ec);
 }
 
+void SplitLinesInTwo(const std::string& path, const std::string& even, const std::string& odd) {
+  std::ifstream in(path);
+  std::string a, b;
+  int n = 0;
+  for (std::string line; std::getline(in, line); ++n) (n % 2 ? b : a) += line + "\n";
+  WriteFile(even, a);
+  WriteFile(odd, b);
+}
+
 std::string ReadFile(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
   std::stringstream ss;

@@ -26,6 +26,8 @@ class TempDir {
 std::string ReadFile(const std::string& path);
 void WriteFile(const std::string& path, const std::string& data);
 bool FileExists(const std::string& path);
+// Two "crawls" from one JSON Lines file: its even lines to `even`, odd lines to `odd`.
+void SplitLinesInTwo(const std::string& path, const std::string& even, const std::string& odd);
 
 // {"id": id, "text": text} as one JSON line (with newline), properly escaped.
 std::string JsonLine(const std::string& id, const std::string& text, const std::string& url = "");
