@@ -39,6 +39,12 @@ StatusOr<ShingleKind> ParseShingleKind(const std::string& name) {
   return Status::InvalidArgument("unknown shingle kind '" + name + "' (expected word or char)");
 }
 
+StatusOr<std::string> SignatureMethodForSketch(const std::string& sketch) {
+  if (sketch == "minhash") return std::string(kMinHashMethod);
+  if (sketch == "oph") return std::string(kOphMethod);
+  return Status::InvalidArgument("unknown sketch '" + sketch + "' (expected minhash or oph)");
+}
+
 SketchScheme SketchScheme::Default() {
   SketchScheme s;
   s.unicode_version = utf8proc_unicode_version();
@@ -55,7 +61,7 @@ Status SketchScheme::Validate() const {
                                    std::to_string(rows) + ") must be positive and at most the " +
                                    "number of hashes (" + std::to_string(num_hashes) + ")");
   if (bands > 65535) return Status::InvalidArgument("at most 65535 bands");
-  if (signature_method != "minhash-ms32")
+  if (signature_method != kMinHashMethod && signature_method != kOphMethod)
     return Status::InvalidArgument("unknown signature method '" + signature_method + "'");
   return Status::Ok();
 }

@@ -18,6 +18,15 @@ namespace shingleton {
 
 enum class ShingleKind { kWord, kChar };
 
+// Signature methods (the "sig=" field of the scheme). Each name fixes its values.
+// "minhash-ms32": k multiply-shift hashes of the shingle hash, 32-bit minima (minhash.h).
+inline constexpr char kMinHashMethod[] = "minhash-ms32";
+// "oph32-p4": one-permutation hashing with bounded-probe densification (oph.h).
+inline constexpr char kOphMethod[] = "oph32-p4";
+
+// The per-job sketch choice: "minhash" -> kMinHashMethod, "oph" -> kOphMethod.
+StatusOr<std::string> SignatureMethodForSketch(const std::string& sketch);
+
 struct SketchScheme {
   // Version of the canonical text encoding produced by Serialize().
   static constexpr int kSchemeFormat = 1;
@@ -33,9 +42,9 @@ struct SketchScheme {
   int shingle_size = 5;
   // Seed of the XXH3-64 shingle hash and of the MinHash family. Default: 0x5348494e47 ("SHING").
   uint64_t seed = 0x5348494e47ULL;
-  // Signature method; "minhash-ms32" = k multiply-shift hashes of the shingle hash,
-  // 32-bit minima (see minhash.h). Default k = 128.
-  std::string signature_method = "minhash-ms32";
+  // Signature method: kMinHashMethod or kOphMethod (above). Default: kMinHashMethod,
+  // k = 128.
+  std::string signature_method = kMinHashMethod;
   int num_hashes = 128;
   // LSH banding: bands × rows ≤ num_hashes. Defaults are chosen from the
   // threshold by ChooseBanding() (bands.h); 16 × 8 for threshold 0.8, k = 128.

@@ -17,6 +17,9 @@
 #include <string>
 #include <vector>
 
+#include <hwy/targets.h>
+
+#include "index/minhash_simd.h"
 #include "index/normalizer.h"
 #include "index/scheme.h"
 #include "index/shingler.h"
@@ -174,6 +177,36 @@ TEST(MinHashTest, SignatureMatchesMultiplyShiftDefinition) {
     }
     EXPECT_EQ(Signature(MinHasher(k, seed), p.a), expected) << "seed " << seed;
   }
+}
+
+// The Highway kernel (minhash_simd.h) against the scalar definition, bit for bit,
+// on every instruction set compiled in and supported by this CPU; k values that are
+// and are not multiples of the vector length, and chunk boundaries of Sign (512).
+TEST(MinHashTest, VectorKernelEqualsScalarDefinitionOnEveryTarget) {
+  std::mt19937_64 rng(6);
+  std::vector<uint64_t> hashes(1500);
+  for (uint64_t& x : hashes) x = rng();
+  hashes[7] = 0;                       // edge values of the 64-bit key
+  hashes[8] = ~0ULL;
+  hashes[9] = 0xFFFFFFFFULL;
+  hashes[10] = 0xFFFFFFFF00000000ULL;
+  int targets = 0;
+  for (int64_t target : hwy::SupportedAndGeneratedTargets()) {
+    hwy::SetSupportedTargetsForTest(target);
+    ++targets;
+    for (int k : {1, 3, 8, 9, 16, 31, 64, 128, 200, 1000}) {
+      const MinHasher h(k, 0x5348494e47ULL + k);
+      for (size_t n : {size_t{0}, size_t{1}, size_t{5}, size_t{511}, size_t{512}, size_t{1500}}) {
+        std::vector<uint32_t> fast(k), slow(k);
+        h.Sign(hashes.data(), n, fast.data());
+        h.SignScalar(hashes.data(), n, slow.data());
+        ASSERT_EQ(fast, slow) << hwy::TargetName(target) << " k=" << k << " n=" << n;
+      }
+    }
+  }
+  hwy::SetSupportedTargetsForTest(0);
+  std::printf("kernel checked on %d targets; dispatch picks %s\n", targets, Ms32KernelTarget());
+  EXPECT_GE(targets, 1);
 }
 
 // Fraction of equal positions (definition of the estimator).
