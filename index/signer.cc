@@ -8,8 +8,8 @@
 namespace shingleton {
 
 Signer::Signer(const SketchScheme& scheme) : scheme_(scheme) {
-  if (scheme.signature_method == kOphMethod) {
-    oph_.emplace(scheme.num_hashes, scheme.seed);
+  if (const int probes = OphProbes(scheme.signature_method); probes >= 0) {
+    oph_.emplace(scheme.num_hashes, scheme.seed, probes);
   } else {
     minhash_.emplace(scheme.num_hashes, scheme.seed);
   }

@@ -33,8 +33,8 @@ class Signer {
  private:
   SketchScheme scheme_;
   std::optional<MinHasher> minhash_;          // kMinHashMethod
-  std::optional<OnePermutationHasher> oph_;   // kOphMethod
-  std::vector<uint8_t> oph_scratch_;
+  std::optional<OnePermutationHasher> oph_;   // OphMethod(probes)
+  std::vector<uint64_t> oph_scratch_;
   Normalizer normalizer_;
   NormalizedText normalized_;
   std::vector<uint64_t> shingles_;
