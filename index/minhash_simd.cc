@@ -54,6 +54,39 @@ size_t Ms32MinUpdateVectors(const Ms32Params& p, const uint32_t* x_lo, const uin
 #endif
 }
 
+// sig[j] = left_mask[j] ? left : right for j in [begin, end).
+void FillGap(const uint32_t* left_mask, uint32_t left, uint32_t right, size_t begin, size_t end,
+             uint32_t* sig) {
+  const hn::ScalableTag<uint32_t> d;
+  const size_t lanes = hn::Lanes(d);
+  const auto l = hn::Set(d, left), r = hn::Set(d, right);
+  size_t j = begin;
+  for (; j + lanes <= end; j += lanes) {
+    const auto m = hn::LoadU(d, left_mask + j);
+    hn::StoreU(hn::Or(hn::And(m, l), hn::AndNot(m, r)), d, sig + j);
+  }
+  for (; j < end; ++j) sig[j] = (left & left_mask[j]) | (right & ~left_mask[j]);
+}
+
+void RotateIntoEmptyBinsImpl(const uint64_t* filled, const uint32_t* left_mask, size_t k,
+                             uint32_t* sig) {
+  size_t first = SIZE_MAX, prev = 0;
+  for (size_t w = 0; w * 64 < k; ++w) {
+    for (uint64_t bits = filled[w]; bits != 0; bits &= bits - 1) {
+      const size_t f = w * 64 + static_cast<size_t>(hwy::Num0BitsBelowLS1Bit_Nonzero64(bits));
+      if (first == SIZE_MAX) {
+        first = f;
+      } else {
+        FillGap(left_mask, sig[prev], sig[f], prev + 1, f, sig);
+      }
+      prev = f;
+    }
+  }
+  const uint32_t left = sig[prev], right = sig[first];  // the gap that wraps around
+  FillGap(left_mask, left, right, prev + 1, k, sig);
+  FillGap(left_mask, left, right, 0, first, sig);
+}
+
 const char* Ms32TargetName() { return hwy::TargetName(HWY_TARGET); }
 
 }  // namespace HWY_NAMESPACE
@@ -65,10 +98,16 @@ namespace shingleton {
 
 HWY_EXPORT(Ms32MinUpdateVectors);
 HWY_EXPORT(Ms32TargetName);
+HWY_EXPORT(RotateIntoEmptyBinsImpl);
 
 size_t Ms32MinUpdate(const Ms32Params& p, const uint32_t* x_lo, const uint32_t* x_hi, size_t n,
                      uint32_t* sig) {
   return HWY_DYNAMIC_DISPATCH(Ms32MinUpdateVectors)(p, x_lo, x_hi, n, sig);
+}
+
+void RotateIntoEmptyBins(const uint64_t* filled, const uint32_t* left_mask, size_t k,
+                         uint32_t* sig) {
+  HWY_DYNAMIC_DISPATCH(RotateIntoEmptyBinsImpl)(filled, left_mask, k, sig);
 }
 
 const char* Ms32KernelTarget() { return HWY_DYNAMIC_DISPATCH(Ms32TargetName)(); }

@@ -1,6 +1,7 @@
-// Vector kernel of the "minhash-ms32" family (minhash.h), one unit so that the
-// Highway per-target code stays in one translation unit (minhash_simd.cc).
+// Vector kernels of the sketches, in one unit so that the Highway per-target code
+// stays in one translation unit (minhash_simd.cc).
 //
+// Ms32MinUpdate: the "minhash-ms32" family (minhash.h).
 // The 64-bit multiply-add-shift h(x) = high 32 bits of (a*x + b) mod 2^64 is split
 // into 32-bit halves, which suits 32-bit SIMD lanes without 64-bit multiplies:
 //   h = (a_hi*x_lo + a_lo*x_hi + b_hi + ((a_lo*x_lo + b_lo) >> 32)) mod 2^32,
@@ -32,6 +33,14 @@ struct Ms32Params {
 // updates the remaining p.k - m functions (fewer than one vector) with scalar code.
 size_t Ms32MinUpdate(const Ms32Params& p, const uint32_t* x_lo, const uint32_t* x_hi, size_t n,
                      uint32_t* sig);
+
+// The rotation step of one-permutation hashing (oph.h) for bins without probes:
+// every bin j whose bit in `filled` is clear takes sig[p] if left_mask[j] is all
+// ones, else sig[q], where p and q are the nearest set bits to the left and right
+// of j, cyclically. REQUIRES: at least one bit of filled[0 .. ceil(k/64)) set;
+// left_mask[j] is 0 or 0xFFFFFFFF.
+void RotateIntoEmptyBins(const uint64_t* filled, const uint32_t* left_mask, size_t k,
+                         uint32_t* sig);
 
 // Name of the instruction set the dispatcher picks on this CPU, e.g. "AVX2".
 const char* Ms32KernelTarget();

@@ -69,13 +69,9 @@ class OnePermutationHasher {
  private:
   // Step 1: fills sig and the `filled` bitmap; returns the number of filled bins.
   size_t FillBins(const uint64_t* hashes, size_t n, uint32_t* sig, uint64_t* filled) const;
-  // Step 2a: empty bins whose probes hit a filled bin; marks them in `probed`.
-  void Probe(uint32_t* sig, const uint64_t* filled, uint64_t* probed) const;
-  // Step 2b: the other empty bins by directed rotation. REQUIRES: one bin filled.
-  void Rotate(uint32_t* sig, const uint64_t* filled, const uint64_t* probed) const;
-  // Bins [begin, end) not in `probed` (nullptr: none) take left or right by side.
-  void RotateGap(uint32_t begin, uint32_t end, uint32_t left, uint32_t right, uint32_t* sig,
-                 const uint64_t* probed) const;
+  // Step 2, after the rotation (RotateIntoEmptyBins, minhash_simd.h): empty bins
+  // whose probes hit a filled bin take the first such bin's value.
+  void Probe(uint32_t* sig, const uint64_t* filled) const;
   uint32_t Range(uint64_t h) const;
 
   int num_bins_;
