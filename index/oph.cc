@@ -39,16 +39,22 @@ uint32_t OnePermutationHasher::Range(uint64_t h) const {
 
 size_t OnePermutationHasher::FillBins(const uint64_t* hashes, size_t n, uint32_t* sig,
                                       uint64_t* filled) const {
-  std::fill(sig, sig + num_bins_, UINT32_MAX);
+  // sig is written on a bin's first value only (every empty bin is written later),
+  // which spares a pass over k values for sparse documents.
   std::fill(filled, filled + words_, 0);
   size_t count = 0;
   for (size_t i = 0; i < n; ++i) {
     const uint64_t y = XXH3_64bits_withSeed(&hashes[i], sizeof hashes[i], value_seed_);
-    const uint32_t bin = Range(y);
-    sig[bin] = std::min(sig[bin], static_cast<uint32_t>(y));
-    count += !TestBit(filled, bin);
-    SetBit(filled, bin);
+    const uint32_t bin = Range(y), v = static_cast<uint32_t>(y);
+    if (TestBit(filled, bin)) {
+      sig[bin] = std::min(sig[bin], v);
+    } else {
+      sig[bin] = v;
+      SetBit(filled, bin);
+      ++count;
+    }
   }
+  if (count == 0) std::fill(sig, sig + num_bins_, UINT32_MAX);
   return count;
 }
 
