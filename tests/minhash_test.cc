@@ -30,15 +30,6 @@ namespace {
 // A pair of sets with an exactly known Jaccard similarity
 // J = |A ∩ B| / |A ∪ B| (Broder 1997, "resemblance").
 
-// Exact Jaccard by brute force over std::set (definition).
-double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b) {
-  const std::set<uint64_t> sa(a.begin(), a.end()), sb(b.begin(), b.end());
-  size_t common = 0;
-  for (uint64_t v : sa) common += sb.count(v);
-  const size_t uni = sa.size() + sb.size() - common;
-  return uni == 0 ? 1.0 : static_cast<double>(common) / static_cast<double>(uni);
-}
-
 std::vector<uint32_t> Signature(const MinHasher& h, const std::vector<uint64_t>& set) {
   std::vector<uint32_t> sig(static_cast<size_t>(h.num_hashes()));
   h.Sign(set.data(), set.size(), sig.data());
@@ -65,7 +56,7 @@ void CheckAccuracy(int k) {
     double sum = 0, sum_sq = 0;
     for (int t = 0; t < kTrials; ++t) {
       const testing::SetPair p = testing::MakeSetPair(j, kUnion, &rng);
-      ASSERT_DOUBLE_EQ(BruteForceJaccard(p.a, p.b), j);
+      ASSERT_DOUBLE_EQ(testing::BruteForceJaccard(p.a, p.b), j);
       const MinHasher h(k, rng());  // a fresh hash family per trial
       const std::vector<uint32_t> sa = Signature(h, p.a), sb = Signature(h, p.b);
       const double est = EstimateJaccard(sa.data(), sb.data(), k);
@@ -113,7 +104,7 @@ TEST(MinHashTest, DisjointSetsEstimateZero) {
   std::mt19937_64 rng(2);
   for (int t = 0; t < 50; ++t) {
     const testing::SetPair p = testing::MakeSetPair(0.0, 200, &rng);
-    ASSERT_EQ(BruteForceJaccard(p.a, p.b), 0.0);
+    ASSERT_EQ(testing::BruteForceJaccard(p.a, p.b), 0.0);
     const MinHasher h(128, rng());
     const auto sa = Signature(h, p.a), sb = Signature(h, p.b);
     EXPECT_EQ(EstimateJaccard(sa.data(), sb.data(), 128), 0.0);
@@ -353,7 +344,7 @@ TEST(ShinglerTest, ExactJaccardByDefinition) {
   ASSERT_EQ(a.size(), 6u);
   ASSERT_EQ(b.size(), 5u);
   EXPECT_DOUBLE_EQ(ExactJaccard(a, b), 3.0 / 8.0);
-  EXPECT_DOUBLE_EQ(ExactJaccard(a, b), BruteForceJaccard(a, b));
+  EXPECT_DOUBLE_EQ(ExactJaccard(a, b), testing::BruteForceJaccard(a, b));
 }
 
 }  // namespace

@@ -31,15 +31,6 @@
 namespace shingleton {
 namespace {
 
-// Exact Jaccard by brute force over std::set (definition).
-double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b) {
-  const std::set<uint64_t> sa(a.begin(), a.end()), sb(b.begin(), b.end());
-  size_t common = 0;
-  for (uint64_t v : sa) common += sb.count(v);
-  const size_t uni = sa.size() + sb.size() - common;
-  return uni == 0 ? 1.0 : static_cast<double>(common) / static_cast<double>(uni);
-}
-
 std::vector<uint32_t> Signature(const OnePermutationHasher& h, const std::vector<uint64_t>& set) {
   std::vector<uint32_t> sig(static_cast<size_t>(h.num_bins()));
   h.Sign(set.data(), set.size(), sig.data());
@@ -64,7 +55,7 @@ Accuracy Measure(int k, int probes, int union_size) {
     double sum = 0, sum_sq = 0;
     for (int t = 0; t < kTrials; ++t) {
       const testing::SetPair p = testing::MakeSetPair(j, union_size, &rng);
-      if (t == 0) EXPECT_NEAR(BruteForceJaccard(p.a, p.b), j, 1e-12);  // J by construction
+      if (t == 0) EXPECT_NEAR(testing::BruteForceJaccard(p.a, p.b), j, 1e-12);  // J by construction
       const OnePermutationHasher h(k, rng(), probes);
       const std::vector<uint32_t> sa = Signature(h, p.a), sb = Signature(h, p.b);
       const double est = EstimateJaccard(sa.data(), sb.data(), k);
