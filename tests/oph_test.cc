@@ -10,6 +10,7 @@
 #include "index/oph.h"
 
 #include <gtest/gtest.h>
+#include <hwy/targets.h>
 
 #include <algorithm>
 #include <cmath>
@@ -193,7 +194,7 @@ std::vector<uint32_t> OphByDefinition(const std::vector<uint64_t>& set, int k, u
   return out;
 }
 
-TEST(OphTest, SignatureMatchesDefinition) {
+void CheckAgainstDefinition() {
   std::mt19937_64 rng(5);
   for (int probes : {0, 1, 4}) {
     for (int k : {1, 7, 64, 200, 3000}) {
@@ -207,6 +208,17 @@ TEST(OphTest, SignatureMatchesDefinition) {
       }
     }
   }
+}
+
+// On every instruction set compiled in and supported here (the rotation step is a
+// Highway kernel, minhash_simd.h).
+TEST(OphTest, SignatureMatchesDefinitionOnEveryTarget) {
+  for (int64_t target : hwy::SupportedAndGeneratedTargets()) {
+    hwy::SetSupportedTargetsForTest(target);
+    SCOPED_TRACE(hwy::TargetName(target));
+    CheckAgainstDefinition();
+  }
+  hwy::SetSupportedTargetsForTest(0);
 }
 
 // The job's sketch choice and its place in the persisted scheme (scheme.h).
