@@ -51,6 +51,9 @@ struct DedupOptions {
   ShingleKind shingle_kind = ShingleKind::kWord;  // Default: word
   int shingle_size = 0;            // 0: 5 for word shingles, 5 for char shingles
   int num_hashes = 128;            // MinHash k. Default 128
+  // Sketch: "minhash" (k hash functions) or "oph" (one-permutation hashing with
+  // densification, for large k); see SignatureMethodForSketch (scheme.h). Default: minhash
+  std::string sketch = "minhash";
   int bands = 0, rows = 0;         // 0: chosen from the threshold (ChooseBanding)
   double fn_weight = 0.95;         // weight of false negatives when choosing bands
   uint64_t seed = SketchScheme().seed;

@@ -94,4 +94,8 @@ struct SetPair {
 };
 SetPair MakeSetPair(double j, int union_size, std::mt19937_64* rng);
 
+// Exact Jaccard |A ∩ B| / |A ∪ B| by brute force over std::set (definition); 1.0
+// when both are empty.
+double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b);
+
 }  // namespace shingleton::testing
