@@ -16,5 +16,6 @@ void AddQueryCommand(CLI::App* app, int* rc);
 void AddFreezeCommand(CLI::App* app, int* rc);
 void AddInspectCommand(CLI::App* app, int* rc);
 void AddTuneCommand(CLI::App* app, int* rc);
+void AddSplitCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

@@ -27,6 +27,7 @@
 #include "index/ingest_pipeline.h"
 #include "index/keep_policy.h"
 #include "index/record_parser.h"
+#include "index/reference_resolution.h"
 #include "index/reference_set.h"
 #include "index/scheme.h"
 #include "index/status.h"
@@ -51,6 +52,9 @@ struct DedupOptions {
   ShingleKind shingle_kind = ShingleKind::kWord;  // Default: word
   int shingle_size = 0;            // 0: 5 for word shingles, 5 for char shingles
   int num_hashes = 128;            // MinHash k. Default 128
+  // Sketch: "minhash" (k hash functions) or "oph" (one-permutation hashing with
+  // densification, for large k); see SignatureMethodForSketch (scheme.h). Default: minhash
+  std::string sketch = "minhash";
   int bands = 0, rows = 0;         // 0: chosen from the threshold (ChooseBanding)
   double fn_weight = 0.95;         // weight of false negatives when choosing bands
   uint64_t seed = SketchScheme().seed;
@@ -70,6 +74,9 @@ struct DedupOptions {
   // the threshold. Default: off.
   bool chain_guard = false;
   double chain_bound = 0;
+  // How near candidates are found in the references (reference_resolution.h);
+  // both give the same decisions. Default: merge (sorted band keys, sequential reads).
+  ReferenceLookup reference_lookup = ReferenceLookup::kMerge;
   ProgressFn progress;             // called from the job's threads, at most ~5 times/s
 };
 
