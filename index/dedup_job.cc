@@ -220,16 +220,10 @@ StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& s
 
 Status PersistDecisions(IndexStore* store, const std::vector<Decision>& decisions,
                         const std::vector<Edge>& edges) {
-  WriteBatchBuilder batch(store);
-  for (const Decision& d : decisions) {
-    batch.AddDecision(d);
-    if (batch.count() >= 8192) SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
-  }
-  for (const Edge& e : edges) {
-    batch.AddEdge(e);
-    if (batch.count() >= 8192) SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
-  }
-  return store->Write(&batch);
+  BulkIndexWriter bulk(store);
+  for (const Decision& d : decisions) SHINGLETON_RETURN_IF_ERROR(bulk.AddDecision(d));
+  for (const Edge& e : edges) SHINGLETON_RETURN_IF_ERROR(bulk.AddEdge(e));
+  return bulk.Finish();
 }
 
 // Moves the finished index into place, replacing an older one.

@@ -77,6 +77,26 @@ rocksdb::ColumnFamilyOptions FamilyOptions(const std::string& name, bool bulk_lo
   return cf;
 }
 
+const std::string& EncodeDecision(const Decision& d, std::string* value) {
+  value->clear();
+  PutBigEndian64(value, d.cluster);
+  PutBigEndian64(value, d.kept_key);
+  uint32_t bits;
+  std::memcpy(&bits, &d.similarity, 4);
+  PutFixed32(value, bits);
+  PutVarint(value, d.cluster_size);
+  PutVarint(value, d.for_reference ? 1 : 0);
+  return *value;
+}
+
+void EncodeEdgeValue(const Edge& e, std::string* value) {
+  uint32_t bits;
+  std::memcpy(&bits, &e.similarity, 4);
+  value->clear();
+  PutFixed32(value, bits);
+  PutVarint(value, e.band);
+}
+
 }  // namespace
 
 // ---- WriteBatchBuilder --------------------------------------------------------
@@ -131,25 +151,13 @@ void WriteBatchBuilder::AddUrl(const std::string& normalized_url, uint64_t key) 
 }
 
 void WriteBatchBuilder::AddDecision(const Decision& d) {
-  value_.clear();
-  PutBigEndian64(&value_, d.cluster);
-  PutBigEndian64(&value_, d.kept_key);
-  uint32_t bits;
-  std::memcpy(&bits, &d.similarity, 4);
-  PutFixed32(&value_, bits);
-  PutVarint(&value_, d.cluster_size);
-  PutVarint(&value_, d.for_reference ? 1 : 0);
-  batch_->Put(store_->decisions_, Key64(d.key), value_);
+  batch_->Put(store_->decisions_, Key64(d.key), EncodeDecision(d, &value_));
   ++count_;
 }
 
 void WriteBatchBuilder::AddEdge(const Edge& e) {
   // Stored in both directions so EdgesOf() is one prefix scan.
-  uint32_t bits;
-  std::memcpy(&bits, &e.similarity, 4);
-  value_.clear();
-  PutFixed32(&value_, bits);
-  PutVarint(&value_, e.band);
+  EncodeEdgeValue(e, &value_);
   for (int dir = 0; dir < 2; ++dir) {
     key_.clear();
     PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
@@ -162,8 +170,9 @@ void WriteBatchBuilder::AddEdge(const Edge& e) {
 // ---- BulkIndexWriter ----------------------------------------------------------
 
 namespace {
-enum BulkFamily { kBulkDocs, kBulkSignatures, kBulkPostings, kBulkContent, kBulkFamilies };
-constexpr const char* kBulkFamilyNames[kBulkFamilies] = {"docs", "signatures", "postings", "content"};
+enum BulkFamily { kBulkDocs, kBulkSignatures, kBulkPostings, kBulkContent, kBulkDecisions, kBulkEdges, kBulkFamilies };
+constexpr const char* kBulkFamilyNames[kBulkFamilies] = {"docs",    "signatures", "postings",
+                                                         "content", "decisions",  "edges"};
 }  // namespace
 
 // One family's buffered entries: keys and values back to back in `bytes`.
@@ -186,6 +195,7 @@ BulkIndexWriter::BulkIndexWriter(IndexStore* store, size_t run_bytes)
 }
 
 BulkIndexWriter::~BulkIndexWriter() {
+  (void)WaitForWriter();  // a job that fails drops its runs; the error was reported
   std::error_code ec;
   fs::remove_all(store_->path_ + "/bulk-runs", ec);
 }
@@ -199,7 +209,43 @@ Status BulkIndexWriter::Add(int family, std::string_view key, std::string_view v
   run.entries.push_back(e);
   run.bytes.append(key.data(), key.size());
   run.bytes.append(value.data(), value.size());
-  if (run.Footprint() >= run_bytes_) return WriteRun(family);
+  if (run.Footprint() >= run_bytes_) return StartRun(family);
+  return Status::Ok();
+}
+
+Status BulkIndexWriter::AddDecision(const Decision& d) {
+  key_.clear();
+  PutBigEndian64(&key_, d.key);
+  return Add(kBulkDecisions, key_, EncodeDecision(d, &value_));
+}
+
+Status BulkIndexWriter::AddEdge(const Edge& e) {
+  EncodeEdgeValue(e, &value_);
+  for (int dir = 0; dir < 2; ++dir) {
+    key_.clear();
+    PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
+    PutBigEndian64(&key_, dir == 0 ? e.b : e.a);
+    SHINGLETON_RETURN_IF_ERROR(Add(kBulkEdges, key_, value_));
+  }
+  return Status::Ok();
+}
+
+Status BulkIndexWriter::WaitForWriter() {
+  if (writer_.joinable()) writer_.join();
+  writing_.reset();
+  Status s = writer_status_;
+  writer_status_ = Status::Ok();
+  return s;
+}
+
+Status BulkIndexWriter::StartRun(int family) {
+  SHINGLETON_RETURN_IF_ERROR(WaitForWriter());
+  writing_ = std::move(runs_[family]);
+  runs_[family] = std::make_unique<Run>();
+  ++files_;
+  writer_ = std::thread([this, family, number = next_file_++] {
+    writer_status_ = WriteRun(family, writing_.get(), number);
+  });
   return Status::Ok();
 }
 
@@ -233,8 +279,8 @@ Status BulkIndexWriter::AddContent(const DocumentMeta& doc) {
   return Add(kBulkContent, key_, std::string_view());
 }
 
-Status BulkIndexWriter::WriteRun(int family) {
-  Run& run = *runs_[family];
+Status BulkIndexWriter::WriteRun(int family, Run* run_ptr, uint64_t number) {
+  Run& run = *run_ptr;
   if (run.entries.empty()) return Status::Ok();
   const char* base = run.bytes.data();
   auto key_of = [base](const Run::Entry& e) { return std::string_view(base + e.offset, e.key_size); };
@@ -248,12 +294,11 @@ Status BulkIndexWriter::WriteRun(int family) {
   std::error_code ec;
   fs::create_directories(dir, ec);
   if (ec) return Status::IoError("cannot create " + dir + ": " + ec.message());
-  const std::string file = dir + "/run-" + std::to_string(next_file_++) + ".sst";
+  const std::string file = dir + "/run-" + std::to_string(number) + ".sst";
   const std::string name = kBulkFamilyNames[family];
-  rocksdb::ColumnFamilyHandle* handle = family == kBulkDocs         ? store_->docs_
-                                        : family == kBulkSignatures ? store_->signatures_
-                                        : family == kBulkPostings   ? store_->postings_
-                                                                    : store_->content_;
+  rocksdb::ColumnFamilyHandle* const handles[kBulkFamilies] = {
+      store_->docs_, store_->signatures_, store_->postings_, store_->content_, store_->decisions_, store_->edges_};
+  rocksdb::ColumnFamilyHandle* handle = handles[family];
   rocksdb::Options options(rocksdb::DBOptions(), FamilyOptions(name, true));
   rocksdb::SstFileWriter writer(rocksdb::EnvOptions(), options, handle);
   SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Open(file), "creating " + file));
@@ -268,16 +313,14 @@ Status BulkIndexWriter::WriteRun(int family) {
   ingest.move_files = true;
   SHINGLETON_RETURN_IF_ERROR(FromRocks(store_->db_->IngestExternalFile(handle, {file}, ingest),
                                        "ingesting " + name + " into " + store_->path_));
-  ++files_;
-  run.entries.clear();
-  run.entries.shrink_to_fit();
-  run.bytes.clear();
-  run.bytes.shrink_to_fit();
   return Status::Ok();
 }
 
 Status BulkIndexWriter::Finish() {
-  for (int f = 0; f < kBulkFamilies; ++f) SHINGLETON_RETURN_IF_ERROR(WriteRun(f));
+  for (int f = 0; f < kBulkFamilies; ++f) {
+    if (!runs_[f]->entries.empty()) SHINGLETON_RETURN_IF_ERROR(StartRun(f));
+  }
+  SHINGLETON_RETURN_IF_ERROR(WaitForWriter());
   std::error_code ec;
   fs::remove_all(store_->path_ + "/bulk-runs", ec);
   return Status::Ok();

@@ -27,6 +27,7 @@
 #include <functional>
 #include <memory>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include "index/document.h"
@@ -88,14 +89,18 @@ class WriteBatchBuilder {
   std::unique_ptr<rocksdb::WriteBatch> batch_;
 };
 
-// Writes the bulk data of a batch job (postings, signatures, documents, content)
+// Writes the bulk data of a batch job (postings, signatures, documents, content,
+// decisions, edges)
 // without the memtable: entries are buffered per family up to `run_bytes`, sorted,
 // written as one SST file (rocksdb::SstFileWriter) and ingested into the index
 // (IngestExternalFile, moving the file). Several runs of one family overlap and stay
 // level-0 files; reads merge them. Keys must be distinct within the job (doc keys are:
 // the DocTable refuses duplicates); a repeated key keeps the last value.
-// Nothing is visible until the run holding it has been ingested; Finish() ingests the
-// rest. REQUIRES: the store was opened with bulk_load (no WAL, no auto compaction).
+// A full run is sorted, written and ingested on a background thread while the next
+// one fills (at most one run in flight, so memory stays below ~(families + 1) x
+// run_bytes). Nothing is visible until the run holding it has been ingested;
+// Finish() ingests the rest. REQUIRES: the store was opened with bulk_load (no WAL,
+// no auto compaction).
 class BulkIndexWriter {
  public:
   // Default run size: 64 MiB of keys and values per family.
@@ -108,6 +113,8 @@ class BulkIndexWriter {
   Status AddSignature(uint64_t key, const uint32_t* sig, int k);
   Status AddPosting(int band, uint64_t bucket, uint64_t key);
   Status AddContent(const DocumentMeta& doc);
+  Status AddDecision(const Decision& d);
+  Status AddEdge(const Edge& e);
   // Writes and ingests every buffered run.
   Status Finish();
   // SST files ingested so far.
@@ -116,13 +123,21 @@ class BulkIndexWriter {
  private:
   struct Run;
   Status Add(int family, std::string_view key, std::string_view value);
-  Status WriteRun(int family);
+  // Hands the family's run to the background writer (after the previous one is done).
+  Status StartRun(int family);
+  // Waits for the background writer; returns its status.
+  Status WaitForWriter();
+  // Sorts, writes and ingests one run as SST file number `number`.
+  Status WriteRun(int family, Run* run, uint64_t number);
 
   class IndexStore* store_;
   size_t run_bytes_;
   std::vector<std::unique_ptr<Run>> runs_;  // by family index
   size_t files_ = 0;
   uint64_t next_file_ = 0;
+  std::unique_ptr<Run> writing_;  // the run the background writer owns
+  std::thread writer_;
+  Status writer_status_;          // set by the writer; read after joining it
   std::string key_, value_;  // scratch
 };
 
