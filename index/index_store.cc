@@ -189,8 +189,8 @@ struct BulkIndexWriter::Run {
   size_t Footprint() const { return bytes.size() + entries.size() * sizeof(Entry); }
 };
 
-BulkIndexWriter::BulkIndexWriter(IndexStore* store, size_t run_bytes)
-    : store_(store), run_bytes_(run_bytes) {
+BulkIndexWriter::BulkIndexWriter(IndexStore* store, size_t buffer_bytes)
+    : store_(store), buffer_bytes_(buffer_bytes) {
   for (int f = 0; f < kBulkFamilies; ++f) runs_.push_back(std::make_unique<Run>());
 }
 
@@ -209,8 +209,13 @@ Status BulkIndexWriter::Add(int family, std::string_view key, std::string_view v
   run.entries.push_back(e);
   run.bytes.append(key.data(), key.size());
   run.bytes.append(value.data(), value.size());
-  if (run.Footprint() >= run_bytes_) return StartRun(family);
-  return Status::Ok();
+  buffered_ += key.size() + value.size() + sizeof(Run::Entry);
+  if (buffered_ < buffer_bytes_) return Status::Ok();
+  int largest = 0;
+  for (int f = 1; f < kBulkFamilies; ++f) {
+    if (runs_[f]->Footprint() > runs_[largest]->Footprint()) largest = f;
+  }
+  return StartRun(largest);
 }
 
 Status BulkIndexWriter::AddDecision(const Decision& d) {
@@ -242,6 +247,7 @@ Status BulkIndexWriter::StartRun(int family) {
   SHINGLETON_RETURN_IF_ERROR(WaitForWriter());
   writing_ = std::move(runs_[family]);
   runs_[family] = std::make_unique<Run>();
+  buffered_ -= std::min(buffered_, writing_->Footprint());
   ++files_;
   writer_ = std::thread([this, family, number = next_file_++] {
     writer_status_ = WriteRun(family, writing_.get(), number);

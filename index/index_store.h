@@ -91,20 +91,21 @@ class WriteBatchBuilder {
 
 // Writes the bulk data of a batch job (postings, signatures, documents, content,
 // decisions, edges)
-// without the memtable: entries are buffered per family up to `run_bytes`, sorted,
+// without the memtable: entries are buffered per family; when all buffers together
+// reach `buffer_bytes`, the largest is sorted,
 // written as one SST file (rocksdb::SstFileWriter) and ingested into the index
 // (IngestExternalFile, moving the file). Several runs of one family overlap and stay
 // level-0 files; reads merge them. Keys must be distinct within the job (doc keys are:
 // the DocTable refuses duplicates); a repeated key keeps the last value.
 // A full run is sorted, written and ingested on a background thread while the next
 // one fills (at most one run in flight, so memory stays below ~(families + 1) x
-// run_bytes). Nothing is visible until the run holding it has been ingested;
+// 1.5 x buffer_bytes). Nothing is visible until the run holding it has been ingested;
 // Finish() ingests the rest. REQUIRES: the store was opened with bulk_load (no WAL,
 // no auto compaction).
 class BulkIndexWriter {
  public:
-  // Default run size: 64 MiB of keys and values per family.
-  explicit BulkIndexWriter(class IndexStore* store, size_t run_bytes = 64 << 20);
+  // Default buffer: 96 MiB of keys, values and sort entries over all families.
+  explicit BulkIndexWriter(class IndexStore* store, size_t buffer_bytes = 96 << 20);
   ~BulkIndexWriter();  // unfinished runs are dropped, their files removed
   BulkIndexWriter(const BulkIndexWriter&) = delete;
   BulkIndexWriter& operator=(const BulkIndexWriter&) = delete;
@@ -131,7 +132,8 @@ class BulkIndexWriter {
   Status WriteRun(int family, Run* run, uint64_t number);
 
   class IndexStore* store_;
-  size_t run_bytes_;
+  size_t buffer_bytes_;
+  size_t buffered_ = 0;  // footprint of all runs_
   std::vector<std::unique_ptr<Run>> runs_;  // by family index
   size_t files_ = 0;
   uint64_t next_file_ = 0;
