@@ -245,7 +245,6 @@ void QuerySuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
     for (int band = 0; band < c.scheme.bands; ++band) members[{band, c.bucket(i)[band]}].push_back(c.keys[i]);
   }
   constexpr size_t kQueryBatch = 256;
-  const int k = c.scheme.num_hashes;
   size_t hits = 0;
   auto ours = [&] {
     hits = 0;
@@ -297,7 +296,6 @@ void QuerySuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
   BenchRow r{"query", q / t_ours, "docs/s", "raw_multiget", q / t_raw, 0.7,
              std::to_string(q) + " queries (half near-duplicates) in batches of " + std::to_string(kQueryBatch) +
                  " against " + std::to_string(n) + " docs; " + std::to_string(hits) + " hits"};
-  (void)k;
   rows->push_back(r);
   store.reset();
   fs::remove_all(path);
