@@ -14,5 +14,6 @@ void AddFinalizeCommand(CLI::App* app, int* rc);
 void AddHealthCommand(CLI::App* app, int* rc);
 void AddQueryCommand(CLI::App* app, int* rc);
 void AddFreezeCommand(CLI::App* app, int* rc);
+void AddSplitCommand(CLI::App* app, int* rc);
 
 }  // namespace shingleton::cli

@@ -89,6 +89,18 @@ void AddDedupCommand(CLI::App* app, int* rc) {
   cmd->add_flag("--url-revisits", o.url_revisits,
                 "Drop a document whose normalised URL is already in a reference generation (a "
                 "re-crawled page), with reason \"url\"");
+  cmd->add_option_function<std::string>(
+         "--reference-lookup",
+         [&o](const std::string& v) {
+           auto l = ParseReferenceLookup(v);
+           if (!l.ok()) throw CLI::ValidationError("--reference-lookup", l.status().message());
+           o.reference_lookup = l.value();
+         },
+         "How near candidates are found in the references: merge (the crawl's band keys "
+         "sorted and merged with each generation's postings, sequential reads) or point (one "
+         "bucket lookup per document and band; fewer reads for a small crawl against a large "
+         "generation). Same decisions either way [default: merge]")
+      ->check(CLI::IsMember({"merge", "point"}));
   cmd->add_flag("--replace", o.replace, "Replace an existing index and manifests at the outputs");
   cmd->add_flag("-q,--quiet", flags->quiet, "Print nothing on success");
   cmd->add_flag("-v,--verbose", flags->verbose, "Log each phase of the job on stderr");

@@ -6,6 +6,7 @@
 // reconnects and re-sends the unacknowledged batch; re-sending is harmless because
 // the coordinator recognises documents it already holds.
 #include <chrono>
+#include <iomanip>
 #include <iostream>
 #include <memory>
 #include <thread>
@@ -168,7 +169,7 @@ int RunIngest(IngestFlags& f) {
   const double secs = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   std::cout << "shingleton ingest: job " << f.job_name << ": " << WithCommas(sent) << " documents sent, "
             << WithCommas(accepted) << " new, " << WithCommas(repeated) << " already present, "
-            << WithCommas(skipped) << " skipped, in " << secs << " s\n";
+            << WithCommas(skipped) << " skipped, in " << std::fixed << std::setprecision(1) << secs << " s\n";
   return 0;
 }
 

@@ -25,7 +25,14 @@ void AddJobFlags(CLI::App* cmd, JobFlags* flags) {
       ->capture_default_str();
   cmd->add_option("--shingle-size", o.shingle_size, "Words or characters per shingle; 0 means 5")
       ->capture_default_str();
-  cmd->add_option("--hashes", o.num_hashes, "MinHash signature length k")->capture_default_str();
+  cmd->add_option("--hashes", o.num_hashes, "Signature length k (values per document)")
+      ->capture_default_str();
+  cmd->add_option("--sketch", o.sketch,
+                  "Signature method: minhash (k hash functions per shingle) or oph "
+                  "(one-permutation hashing with densification: one hash per shingle, for "
+                  "large k; recorded in the index's scheme)")
+      ->check(CLI::IsMember({"minhash", "oph"}))
+      ->capture_default_str();
   cmd->add_option("--bands", o.bands, "LSH bands b; 0 chooses b and r from the threshold")
       ->capture_default_str();
   cmd->add_option("--rows", o.rows, "LSH rows per band r; 0 chooses b and r from the threshold")

@@ -13,6 +13,7 @@ int main(int argc, char** argv) {
   int rc = 0;
   shingleton::cli::AddDedupCommand(&app, &rc);
   shingleton::cli::AddFreezeCommand(&app, &rc);
+  shingleton::cli::AddSplitCommand(&app, &rc);
   shingleton::cli::AddShardCommand(&app, &rc);
   shingleton::cli::AddCoordinatorCommand(&app, &rc);
   shingleton::cli::AddIngestCommand(&app, &rc);

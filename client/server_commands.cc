@@ -18,6 +18,7 @@ namespace {
 struct ShardFlags {
   ServerFlags server;
   std::string db;
+  std::vector<std::string> reference_parts;
 };
 
 struct CoordinatorFlags {
@@ -49,6 +50,10 @@ int RunShard(ShardFlags& f) {
   Status s = ApplyServerFlags(&f.server);
   if (!s.ok()) return Fail("shard", s);
   rpc::ShardService service(f.db, f.server.security.token, f.server.listen);
+  for (const std::string& part : f.reference_parts) {
+    s = service.AddReferencePart(part);
+    if (!s.ok()) return Fail("shard", s);
+  }
   s = rpc::RunServer(RunnerOptions(f.server, "shard"), {&service}, [&] { service.FlushAll(); });
   return s.ok() ? 0 : Fail("shard", s);
 }
@@ -93,6 +98,12 @@ void AddShardCommand(CLI::App* app, int* rc) {
       "their documents, in its own RocksDB. Stops cleanly on SIGTERM (drains, flushes, exit 0).");
   AddServerFlags(cmd, &f->server, "127.0.0.1:7410");
   cmd->add_option("--db", f->db, "Directory of this shard's RocksDB databases")->required();
+  cmd->add_option("--reference-part", f->reference_parts,
+                  "Serve this part of a frozen reference generation (a part-<i>-of-<N> directory "
+                  "made by `shingleton reference-split`; i must be this shard's place in the "
+                  "coordinator's --shards list). Opened read-only, checksum verified at start; "
+                  "repeatable, one part per generation [default: none]")
+      ->check(CLI::ExistingDirectory);
   cmd->callback([f, rc] { *rc = RunShard(*f); });
 }
 
@@ -111,7 +122,10 @@ void AddCoordinatorCommand(CLI::App* app, int* rc) {
   cmd->add_option("--shard-key", f->shard_key, "PEM client key presented to shards");
   cmd->add_option("--reference", f->references,
                   "A frozen reference generation (shingleton freeze) every job is deduplicated "
-                  "against at finalize; repeatable, earlier ones win ties")
+                  "against at finalize; repeatable, earlier ones win ties. The coordinator reads its "
+                  "document, URL and content records; its postings and signatures are served by "
+                  "the shards (each started with --reference-part for its part of the generation, "
+                  "see `shingleton reference-split`)")
       ->check(CLI::ExistingDirectory);
   cmd->add_flag("--url-revisits", f->url_revisits,
                 "Drop documents whose normalised URL is in a reference generation (reason \"url\")");

@@ -9,7 +9,7 @@ cd "$(dirname "$0")/.."
 PACKAGES=(
   cmake g++ pkg-config ninja-build
   librocksdb-dev libxxhash-dev libsimdjson-dev libutf8proc-dev libcli11-dev libspdlog-dev
-  libtbb-dev zlib1g-dev libzstd-dev libgumbo-dev
+  libtbb-dev zlib1g-dev libzstd-dev libgumbo-dev libhwy-dev
   libgrpc++-dev protobuf-compiler-grpc libprotobuf-dev protobuf-compiler
   libgtest-dev libgmock-dev
   # data the tests check against: Unicode's NormalizationTest.txt, Debian's licenses

@@ -9,13 +9,16 @@
 # Shards listen on 127.0.0.1:$((BASE_PORT+1+i)), the coordinator on 127.0.0.1:$BASE_PORT
 # (BASE_PORT default 7400). Restarting with the same N keeps the data: a job's shard
 # map must not change, so restart a cluster with the N it was started with.
+# REFERENCES="refs/2026-10 refs/2026-11" (frozen generations, default none): every job
+# is deduplicated against them; each is cut into N parts (shingleton reference-split,
+# under $CLUSTER_DIR/reference-parts) and shard i serves part i.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 CLUSTER_DIR=${CLUSTER_DIR:-out/cluster}
 BASE_PORT=${BASE_PORT:-7400}
 BIN=${BUILD_DIR:-build}/bin/shingleton
 
-usage() { sed -n '2,13p' "$0" | sed 's/^# \{0,1\}//'; exit 2; }
+usage() { sed -n '2,16p' "$0" | sed 's/^# \{0,1\}//'; exit 2; }
 
 wait_healthy() {  # address, name
   for _ in $(seq 1 100); do
@@ -37,6 +40,12 @@ start() {
   fi
   mkdir -p "$CLUSTER_DIR"
   echo "$n" > "$CLUSTER_DIR/shards"
+  local ref_args=() ref
+  for ref in ${REFERENCES:-}; do
+    local parts="$CLUSTER_DIR/reference-parts/$(basename "$ref")-of-$n"
+    [ -d "$parts" ] || "$BIN" reference-split --reference "$ref" --shards "$n" --to "$parts" >/dev/null
+    ref_args+=(--reference "$ref")
+  done
   local list=""
   for i in $(seq 0 $((n - 1))); do
     local addr="127.0.0.1:$((BASE_PORT + 1 + i))"
@@ -44,7 +53,11 @@ start() {
     if [ -f "$CLUSTER_DIR/shard-$i.pid" ] && kill -0 "$(cat "$CLUSTER_DIR/shard-$i.pid")" 2>/dev/null; then
       continue
     fi
-    nohup "$BIN" shard --listen "$addr" --db "$CLUSTER_DIR/shard-$i" \
+    local part_args=()
+    for ref in ${REFERENCES:-}; do
+      part_args+=(--reference-part "$CLUSTER_DIR/reference-parts/$(basename "$ref")-of-$n/part-$i-of-$n")
+    done
+    nohup "$BIN" shard --listen "$addr" --db "$CLUSTER_DIR/shard-$i" "${part_args[@]}" \
       >>"$CLUSTER_DIR/shard-$i.log" 2>&1 &
     echo $! > "$CLUSTER_DIR/shard-$i.pid"
   done
@@ -52,6 +65,7 @@ start() {
   local caddr="127.0.0.1:$BASE_PORT"
   if ! { [ -f "$CLUSTER_DIR/coordinator.pid" ] && kill -0 "$(cat "$CLUSTER_DIR/coordinator.pid")" 2>/dev/null; }; then
     nohup "$BIN" coordinator --listen "$caddr" --shards "$list" --state "$CLUSTER_DIR/coordinator" \
+      "${ref_args[@]}" \
       >>"$CLUSTER_DIR/coordinator.log" 2>&1 &
     echo $! > "$CLUSTER_DIR/coordinator.pid"
   fi

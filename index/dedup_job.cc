@@ -292,6 +292,7 @@ StatusOr<SketchScheme> SchemeFromOptions(const DedupOptions& o) {
   s.shingle_size = o.shingle_size > 0 ? o.shingle_size : 5;
   s.seed = o.seed;
   s.num_hashes = o.num_hashes;
+  SHINGLETON_ASSIGN_OR_RETURN(s.signature_method, SignatureMethodForSketch(o.sketch, o.num_hashes));
   if ((o.bands > 0) != (o.rows > 0)) {
     return Status::InvalidArgument("give both bands and rows, or neither");
   }
@@ -355,8 +356,9 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   if (refs) {
     report("references");
     SHINGLETON_ASSIGN_OR_RETURN(
-        matches, MatchReferences(*refs, table, ingested.normalized_urls, o.threshold, o.url_revisits,
-                                 ResolveThreads(o.ingest.threads)));
+        matches, MatchReferences(*refs, table, ingested.normalized_urls,
+                                 {o.threshold, o.url_revisits, ResolveThreads(o.ingest.threads),
+                                  o.reference_lookup}));
     DropEdgesOfMatched(table, matches, &edges);
   }
   summary.seconds_candidates = SecondsSince(t);

@@ -29,6 +29,7 @@
 #include "index/ingest_pipeline.h"
 #include "index/keep_policy.h"
 #include "index/record_parser.h"
+#include "index/reference_resolution.h"
 #include "index/reference_set.h"
 #include "index/scheme.h"
 #include "index/status.h"
@@ -53,6 +54,9 @@ struct DedupOptions {
   ShingleKind shingle_kind = ShingleKind::kWord;  // Default: word
   int shingle_size = 0;            // 0: 5 for word shingles, 5 for char shingles
   int num_hashes = 128;            // MinHash k. Default 128
+  // Sketch: "minhash" (k hash functions) or "oph" (one-permutation hashing with
+  // densification, for large k); see SignatureMethodForSketch (scheme.h). Default: minhash
+  std::string sketch = "minhash";
   int bands = 0, rows = 0;         // 0: chosen from the threshold (ChooseBanding)
   double fn_weight = 0.95;         // weight of false negatives when choosing bands
   uint64_t seed = SketchScheme().seed;
@@ -67,6 +71,9 @@ struct DedupOptions {
   // Drop a document whose normalised URL is in a reference generation (a re-crawl),
   // with reason "url". Default: false.
   bool url_revisits = false;
+  // How near candidates are found in the references (reference_resolution.h);
+  // both give the same decisions. Default: merge (sorted band keys, sequential reads).
+  ReferenceLookup reference_lookup = ReferenceLookup::kMerge;
   ProgressFn progress;             // called from the job's threads, at most ~5 times/s
 };
 

@@ -44,6 +44,12 @@ class TokenBuilder {
     }
     out_->text.append(bytes, n);
   }
+  // Append() of ASCII letters and digits, folded to lower case (A-Z -> a-z).
+  void AppendLowerAscii(const char* bytes, size_t n) {
+    Append(bytes, n);
+    char* p = &out_->text[out_->text.size() - n];
+    for (size_t i = 0; i < n; ++i) p[i] = static_cast<char>(p[i] | ((p[i] >= 'A' && p[i] <= 'Z') << 5));
+  }
 
  private:
   NormalizedText* out_;
@@ -80,14 +86,18 @@ namespace {
 
 // ASCII is NFKC-stable, folds case by A-Z -> a-z, and its token characters
 // (categories L*, N*) are exactly [0-9A-Za-z].
+// Whole runs of letters and digits at a time (the per-character loop was the
+// normaliser's main cost on English text).
 void AppendAscii(std::string_view piece, TokenBuilder* tokens) {
-  for (unsigned char c : piece) {
-    if (IsAsciiAlnum(c)) {
-      const char lower = static_cast<char>((c >= 'A' && c <= 'Z') ? c + 32 : c);
-      tokens->Append(&lower, 1);
-    } else {
-      tokens->Separator();
-    }
+  const size_t n = piece.size();
+  size_t i = 0;
+  while (i < n) {
+    size_t j = i;
+    while (j < n && IsAsciiAlnum(static_cast<unsigned char>(piece[j]))) ++j;
+    if (j > i) tokens->AppendLowerAscii(piece.data() + i, j - i);
+    if (j == n) break;
+    tokens->Separator();
+    i = j + 1;
   }
 }
 

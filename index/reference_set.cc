@@ -93,6 +93,16 @@ StatusOr<std::string> ChecksumDirectory(const std::string& dir) {
   return hex;
 }
 
+StatusOr<std::string> SealFrozenStore(const std::string& db_dir) {
+  // Removes the write-time info logs so the checksum covers data files only.
+  std::error_code ec;
+  for (const auto& e : fs::directory_iterator(db_dir, ec)) {
+    const std::string n = e.path().filename().string();
+    if (n.rfind("LOG", 0) == 0) fs::remove(e.path(), ec);
+  }
+  return ChecksumDirectory(db_dir);
+}
+
 StatusOr<GenerationRecord> ReadGenerationRecord(const std::string& ref_dir) {
   const std::string path = ref_dir + "/generation.json";
   simdjson::dom::parser parser;
@@ -167,12 +177,7 @@ StatusOr<GenerationRecord> FreezeGeneration(const FreezeOptions& o) {
     SHINGLETON_RETURN_IF_ERROR(gen->Flush());
     SHINGLETON_RETURN_IF_ERROR(gen->Compact());
   }
-  // Removes the write-time info logs so the checksum covers data files only.
-  for (const auto& e : fs::directory_iterator(building + "/db")) {
-    const std::string n = e.path().filename().string();
-    if (n.rfind("LOG", 0) == 0) fs::remove(e.path(), ec);
-  }
-  SHINGLETON_ASSIGN_OR_RETURN(rec.checksum, ChecksumDirectory(building + "/db"));
+  SHINGLETON_ASSIGN_OR_RETURN(rec.checksum, SealFrozenStore(building + "/db"));
   JsonWriter w;
   w.BeginObject();
   w.Key("format");
@@ -218,9 +223,8 @@ StatusOr<std::unique_ptr<ReferenceSet>> ReferenceSet::Open(const std::vector<std
   return set;
 }
 
-StatusOr<ReferenceMatch> ReferenceSet::Match(const DocumentMeta& doc, const uint32_t* sig,
-                                             const std::string& normalized_url, double threshold,
-                                             bool url_revisits) const {
+StatusOr<ReferenceMatch> ReferenceSet::Resolve(const DocumentMeta& doc, const std::string& normalized_url,
+                                               bool url_revisits, const std::vector<NearHit>& near) const {
   ReferenceMatch best;
   auto consider = [&](int g, uint64_t key, float sim, DropReason reason) -> Status {
     SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta ref, generations_[g].store->GetDocument(key));
@@ -240,7 +244,19 @@ StatusOr<ReferenceMatch> ReferenceSet::Match(const DocumentMeta& doc, const uint
     for (uint64_t k : keys) SHINGLETON_RETURN_IF_ERROR(consider(g, k, 1.0f, DropReason::kReferenceExact));
   }
   if (best.found()) return best;
+  for (const NearHit& h : near) {
+    if (h.generation < 0 || h.generation >= static_cast<int>(generations_.size())) {
+      return Status::InvalidArgument("near candidate of generation " + std::to_string(h.generation) +
+                                     " of " + std::to_string(generations_.size()));
+    }
+    SHINGLETON_RETURN_IF_ERROR(consider(h.generation, h.key, h.similarity, DropReason::kReferenceNear));
+  }
+  return best;
+}
+
+StatusOr<std::vector<NearHit>> ReferenceSet::PointNearHits(const uint32_t* sig, double threshold) const {
   const int k = scheme_.num_hashes;
+  std::vector<NearHit> hits;
   for (int g = 0; g < static_cast<int>(generations_.size()); ++g) {
     std::vector<uint64_t> candidates;
     for (int b = 0; b < scheme_.bands; ++b) {
@@ -254,12 +270,10 @@ StatusOr<ReferenceMatch> ReferenceSet::Match(const DocumentMeta& doc, const uint
     for (uint64_t key : candidates) {
       SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> ref_sig, generations_[g].store->GetSignature(key));
       const double sim = EstimateJaccard(sig, ref_sig.data(), k);
-      if (sim >= threshold) {
-        SHINGLETON_RETURN_IF_ERROR(consider(g, key, static_cast<float>(sim), DropReason::kReferenceNear));
-      }
+      if (sim >= threshold) hits.push_back({g, key, static_cast<float>(sim)});
     }
   }
-  return best;
+  return hits;
 }
 
 }  // namespace shingleton

@@ -10,11 +10,13 @@
 // so anyone can check that a generation is unchanged. Generations are opened
 // read-only, without an info log, so no job alters a byte of them.
 //
-// Matching a new document (ReferenceSet::Match), in order: its normalised URL in a
+// Matching a new document (ReferenceSet::Resolve), in order: its normalised URL in a
 // generation (a re-crawl; only when asked), identical normalised text (content
 // hash), then LSH candidates verified on the signature (>= threshold). The best
 // match wins: highest similarity, then the earlier generation on the command line,
-// then the smaller id.
+// then the smaller id. The near candidates come from point lookups
+// (PointNearHits), from the key-order merge (reference_merge.h) or, in the service,
+// from the shards that hold the generation's postings; all give the same hits.
 //
 // Thread safety: a ReferenceSet is immutable once open; Match() may run concurrently.
 #pragma once
@@ -46,6 +48,9 @@ struct GenerationRecord {
 StatusOr<GenerationRecord> ReadGenerationRecord(const std::string& ref_dir);
 // XXH3-128 (hex) over the regular files of `dir`: names, sizes and bytes in name order.
 StatusOr<std::string> ChecksumDirectory(const std::string& dir);
+// After a frozen store is built and closed: removes its info logs and returns its
+// checksum (ChecksumDirectory).
+StatusOr<std::string> SealFrozenStore(const std::string& db_dir);
 
 struct FreezeOptions {
   std::string index_path;  // the finished job's index
@@ -65,20 +70,33 @@ struct ReferenceMatch {
   bool found() const { return generation >= 0; }
 };
 
+// A verified near candidate of one document in generation `generation`.
+struct NearHit {
+  int generation = 0;
+  uint64_t key = 0;
+  float similarity = 0;
+};
+
 class ReferenceSet {
  public:
   // Opens every generation; each must have the job's scheme (Mismatch otherwise).
   static StatusOr<std::unique_ptr<ReferenceSet>> Open(const std::vector<std::string>& dirs,
                                                       const SketchScheme& scheme);
 
-  // The best match of a document. `normalized_url` may be empty; URL revisits are
-  // only looked for when `url_revisits`.
-  StatusOr<ReferenceMatch> Match(const DocumentMeta& doc, const uint32_t* sig,
-                                 const std::string& normalized_url, double threshold,
-                                 bool url_revisits) const;
+  // The best match of a document given its verified near candidates `near`
+  // (any order). `normalized_url` may be empty; URL revisits are only looked for
+  // when `url_revisits`.
+  StatusOr<ReferenceMatch> Resolve(const DocumentMeta& doc, const std::string& normalized_url,
+                                   bool url_revisits, const std::vector<NearHit>& near) const;
+
+  // Near candidates of one signature by point lookups of its bucket in every band
+  // of every generation, verified (>= threshold); sorted by (generation, key).
+  StatusOr<std::vector<NearHit>> PointNearHits(const uint32_t* sig, double threshold) const;
 
   size_t size() const { return generations_.size(); }
   const GenerationRecord& record(int g) const { return generations_[g].record; }
+  const IndexStore& store(int g) const { return *generations_[g].store; }
+  const SketchScheme& scheme() const { return scheme_; }
 
  private:
   struct Generation {

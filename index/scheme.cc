@@ -39,6 +39,21 @@ StatusOr<ShingleKind> ParseShingleKind(const std::string& name) {
   return Status::InvalidArgument("unknown shingle kind '" + name + "' (expected word or char)");
 }
 
+std::string OphMethod(int probes) { return kOphMethodPrefix + std::to_string(probes); }
+
+int OphProbes(const std::string& method) {
+  const std::string prefix = kOphMethodPrefix;
+  if (method.size() != prefix.size() + 1 || method.compare(0, prefix.size(), prefix) != 0) return -1;
+  const int t = method.back() - '0';
+  return t >= 0 && t <= kMaxOphProbes ? t : -1;
+}
+
+StatusOr<std::string> SignatureMethodForSketch(const std::string& sketch, int num_hashes) {
+  if (sketch == "minhash") return std::string(kMinHashMethod);
+  if (sketch == "oph") return OphMethod(num_hashes <= kOphProbingMaxBins ? 4 : 0);
+  return Status::InvalidArgument("unknown sketch '" + sketch + "' (expected minhash or oph)");
+}
+
 SketchScheme SketchScheme::Default() {
   SketchScheme s;
   s.unicode_version = utf8proc_unicode_version();
@@ -55,7 +70,7 @@ Status SketchScheme::Validate() const {
                                    std::to_string(rows) + ") must be positive and at most the " +
                                    "number of hashes (" + std::to_string(num_hashes) + ")");
   if (bands > 65535) return Status::InvalidArgument("at most 65535 bands");
-  if (signature_method != "minhash-ms32")
+  if (signature_method != kMinHashMethod && OphProbes(signature_method) < 0)
     return Status::InvalidArgument("unknown signature method '" + signature_method + "'");
   return Status::Ok();
 }

@@ -18,6 +18,24 @@ namespace shingleton {
 
 enum class ShingleKind { kWord, kChar };
 
+// Signature methods (the "sig=" field of the scheme). Each name fixes its values.
+// "minhash-ms32": k multiply-shift hashes of the shingle hash, 32-bit minima (minhash.h).
+inline constexpr char kMinHashMethod[] = "minhash-ms32";
+// "oph32-p<T>", T = 0..kMaxOphProbes: one-permutation hashing, densification with up
+// to T probes then directed rotation (oph.h).
+inline constexpr char kOphMethodPrefix[] = "oph32-p";
+inline constexpr int kMaxOphProbes = 8;
+// Sketches up to this k use 4 probes, larger ones none (oph.h explains the cost).
+inline constexpr int kOphProbingMaxBins = 1024;
+
+std::string OphMethod(int probes);
+// T of an "oph32-p<T>" name; -1 when `method` is not one.
+int OphProbes(const std::string& method);
+
+// A job's sketch choice (--sketch): "minhash" -> kMinHashMethod; "oph" ->
+// OphMethod(4) when num_hashes <= kOphProbingMaxBins, else OphMethod(0).
+StatusOr<std::string> SignatureMethodForSketch(const std::string& sketch, int num_hashes);
+
 struct SketchScheme {
   // Version of the canonical text encoding produced by Serialize().
   static constexpr int kSchemeFormat = 1;
@@ -33,9 +51,9 @@ struct SketchScheme {
   int shingle_size = 5;
   // Seed of the XXH3-64 shingle hash and of the MinHash family. Default: 0x5348494e47 ("SHING").
   uint64_t seed = 0x5348494e47ULL;
-  // Signature method; "minhash-ms32" = k multiply-shift hashes of the shingle hash,
-  // 32-bit minima (see minhash.h). Default k = 128.
-  std::string signature_method = "minhash-ms32";
+  // Signature method: kMinHashMethod or an OphMethod (above). Default: kMinHashMethod,
+  // k = 128.
+  std::string signature_method = kMinHashMethod;
   int num_hashes = 128;
   // LSH banding: bands × rows ≤ num_hashes. Defaults are chosen from the
   // threshold by ChooseBanding() (bands.h); 16 × 8 for threshold 0.8, k = 128.

@@ -7,8 +7,13 @@
 
 namespace shingleton {
 
-Signer::Signer(const SketchScheme& scheme)
-    : scheme_(scheme), hasher_(scheme.num_hashes, scheme.seed) {}
+Signer::Signer(const SketchScheme& scheme) : scheme_(scheme) {
+  if (const int probes = OphProbes(scheme.signature_method); probes >= 0) {
+    oph_.emplace(scheme.num_hashes, scheme.seed, probes);
+  } else {
+    minhash_.emplace(scheme.num_hashes, scheme.seed);
+  }
+}
 
 size_t Signer::Sign(std::string_view text, uint32_t* sig, uint64_t* buckets, uint64_t* content) {
   normalizer_.Normalize(text, &normalized_);
@@ -18,7 +23,11 @@ size_t Signer::Sign(std::string_view text, uint32_t* sig, uint64_t* buckets, uin
     content[1] = h.low64;
   }
   ShingleHashes(normalized_, scheme_.shingle_kind, scheme_.shingle_size, scheme_.seed, &shingles_);
-  hasher_.Sign(shingles_.data(), shingles_.size(), sig);
+  if (oph_) {
+    oph_->Sign(shingles_.data(), shingles_.size(), sig, &oph_scratch_);
+  } else {
+    minhash_->Sign(shingles_.data(), shingles_.size(), sig);
+  }
   for (int band = 0; band < scheme_.bands; ++band) {
     buckets[band] = BandBucket(sig, band, scheme_.rows, scheme_.seed);
   }

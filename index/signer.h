@@ -1,15 +1,18 @@
-// Signer: raw text -> MinHash signature and LSH band buckets, under one scheme.
-// Composes Normalizer -> ShingleHashes -> MinHasher -> BandBucket.
+// Signer: raw text -> signature and LSH band buckets, under one scheme.
+// Composes Normalizer -> ShingleHashes -> MinHasher or OnePermutationHasher (by the
+// scheme's signature method) -> BandBucket.
 //
 // Thread safety: a Signer owns scratch buffers; use one per thread.
 #pragma once
 
 #include <cstdint>
+#include <optional>
 #include <string_view>
 #include <vector>
 
 #include "index/minhash.h"
 #include "index/normalizer.h"
+#include "index/oph.h"
 #include "index/scheme.h"
 
 namespace shingleton {
@@ -29,7 +32,9 @@ class Signer {
 
  private:
   SketchScheme scheme_;
-  MinHasher hasher_;
+  std::optional<MinHasher> minhash_;          // kMinHashMethod
+  std::optional<OnePermutationHasher> oph_;   // OphMethod(probes)
+  std::vector<uint64_t> oph_scratch_;
   Normalizer normalizer_;
   NormalizedText normalized_;
   std::vector<uint64_t> shingles_;

@@ -65,7 +65,8 @@ class [[nodiscard]] StatusOr {
   // REQUIRES: ok().
   T& value() & { assert(ok()); return *value_; }
   const T& value() const& { assert(ok()); return *value_; }
-  T&& value() && { assert(ok()); return std::move(*value_); }
+  // By value: `for (auto& x : F().value())` must not dangle when F() returns a temporary.
+  T value() && { assert(ok()); return std::move(*value_); }
   T* operator->() { return &value(); }
   const T* operator->() const { return &value(); }
   T& operator*() { return value(); }

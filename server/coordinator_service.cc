@@ -364,6 +364,39 @@ Status CoordinatorService::DoQuery(const v1::QueryRequest& req, v1::QueryRespons
   return Status::Ok();
 }
 
+StatusOr<NearHits> CoordinatorService::ShardNearHits(const Job& job, const ReferenceSet& refs,
+                                                     const DocTable& table) {
+  const size_t n = shards_.size();
+  NearHits near(table.size());
+  for (int g = 0; g < static_cast<int>(refs.size()); ++g) {
+    std::vector<std::vector<ReferenceHit>> shard_hits(n);
+    SHINGLETON_RETURN_IF_ERROR(ForEachShardParallel(n, [&](size_t i) -> Status {
+      v1::MatchReferenceRequest mr;
+      mr.set_job(job.name);
+      mr.set_generation_checksum(refs.record(g).checksum);
+      mr.set_part(static_cast<uint32_t>(i));
+      mr.set_parts(static_cast<uint32_t>(n));
+      mr.set_threshold(job.params.threshold());
+      grpc::ClientContext ctx;
+      PrepareContext(&ctx, options_.shard_security, 3600);
+      auto reader = shards_[i]->MatchReference(&ctx, mr);
+      v1::MatchReferenceResponse chunk;
+      while (reader->Read(&chunk)) {
+        for (const v1::ReferenceHit& h : chunk.hits()) {
+          // A posting written by a batch that was never acknowledged names no document here.
+          if (table.IndexOf(h.doc()) < 0) continue;
+          shard_hits[i].push_back({h.doc(), h.ref(), h.similarity()});
+        }
+      }
+      return FromGrpcStatus(reader->Finish(), "matching reference generation " + refs.record(g).name +
+                                                  " on shard " + options_.shards[i]);
+    }));
+    for (const auto& hits : shard_hits) SHINGLETON_RETURN_IF_ERROR(AddShardHits(table, g, hits, &near));
+  }
+  NormalizeNearHits(&near);
+  return near;
+}
+
 StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
     const v1::FinalizeRequest& req) {
   const Clock::time_point start = Clock::now();
@@ -432,9 +465,9 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   if (!options_.references.empty()) {
     SHINGLETON_ASSIGN_OR_RETURN(refs, ReferenceSet::Open(options_.references, job->scheme));
     for (size_t g = 0; g < refs->size(); ++g) summary.reference_names.push_back(refs->record(g).name);
-    SHINGLETON_ASSIGN_OR_RETURN(matches, MatchReferences(*refs, table, normalized_urls,
-                                                         job->params.threshold(), options_.url_revisits,
-                                                         ResolveThreads(0)));
+    SHINGLETON_ASSIGN_OR_RETURN(NearHits near, ShardNearHits(*job, *refs, table));
+    SHINGLETON_ASSIGN_OR_RETURN(matches, ResolveReferences(*refs, table, normalized_urls, options_.url_revisits,
+                                                           near, ResolveThreads(0)));
     DropEdgesOfMatched(table, matches, &edges);
   }
   std::vector<Decision> decisions = ResolveClusters(table, edges, job->policy);

@@ -24,6 +24,7 @@
 
 #include "index/index_store.h"
 #include "index/keep_policy.h"
+#include "index/reference_resolution.h"
 #include "shingleton/v1/service.grpc.pb.h"
 #include "server/grpc_common.h"
 #include "server/thread_pool.h"
@@ -37,8 +38,10 @@ struct CoordinatorOptions {
   std::string token;                // required of callers when non-empty
   int max_message_mb = kDefaultMaxMessageMb;
   double shard_deadline_s = 120;    // per call to a shard
-  // Frozen reference generations every job is deduplicated against at Finalize
-  // (read locally by the coordinator), and whether URL revisits are dropped.
+  // Frozen reference generations every job is deduplicated against at Finalize,
+  // and whether URL revisits are dropped. The coordinator reads their document, URL
+  // and content records; the shards serve their postings and signatures (one part
+  // each, index/reference_parts.h) and send the verified near candidates.
   std::vector<std::string> references;
   bool url_revisits = false;
 };
@@ -83,6 +86,9 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
   Status LoadJobs();
   StatusOr<Job*> GetJob(const std::string& name);
   StatusOr<Job*> GetOrCreateJob(const std::string& name, const v1::JobParams& params);
+  // Near candidates of the job's documents in every reference generation, from the
+  // shards (each merges its buckets of the job with its part of the generation).
+  StatusOr<NearHits> ShardNearHits(const Job& job, const ReferenceSet& refs, const DocTable& table);
   Status WriteToShards(Job* job, const std::vector<const v1::SignedDocument*>& docs);
 
   CoordinatorOptions options_;

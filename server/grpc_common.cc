@@ -146,8 +146,11 @@ grpc::Status ToGrpcStatus(const Status& s) {
 
 Status FromGrpcStatus(const grpc::Status& s, const std::string& what) {
   if (s.ok()) return Status::Ok();
-  const std::string msg = what + ": " + s.error_message() + " (gRPC " +
-                          std::to_string(static_cast<int>(s.error_code())) + ")";
+  // A status passed on through several hops names its gRPC code once.
+  const std::string code = " (gRPC " + std::to_string(static_cast<int>(s.error_code())) + ")";
+  const std::string& text = s.error_message();
+  const bool named = text.size() >= code.size() && text.compare(text.size() - code.size(), code.size(), code) == 0;
+  const std::string msg = what + ": " + text + (named ? "" : code);
   switch (s.error_code()) {
     case grpc::StatusCode::INVALID_ARGUMENT: return Status::InvalidArgument(msg);
     case grpc::StatusCode::NOT_FOUND: return Status::NotFound(msg);

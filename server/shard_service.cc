@@ -8,6 +8,7 @@
 #include "index/bucket_scan.h"
 #include "index/minhash.h"
 #include "index/ingest_pipeline.h"
+#include "index/reference_merge.h"
 #include "server/chunked_writer.h"
 #include "server/grpc_common.h"
 
@@ -16,7 +17,25 @@ namespace {
 
 namespace fs = std::filesystem;
 
+// The signatures of a shard's documents, for verification inside its buckets.
+class SignatureMap {
+ public:
+  static StatusOr<SignatureMap> Load(const IndexStore& store) {
+    SignatureMap m;
+    SHINGLETON_RETURN_IF_ERROR(store.ForEachSignature([&m](uint64_t key, std::vector<uint32_t> sig) {
+      m.sigs_.emplace(key, std::move(sig));
+      return Status::Ok();
+    }));
+    return m;
+  }
+  const uint32_t* Find(uint64_t key) const {
+    auto it = sigs_.find(key);
+    return it == sigs_.end() ? nullptr : it->second.data();
+  }
 
+ private:
+  std::unordered_map<uint64_t, std::vector<uint32_t>> sigs_;
+};
 
 }  // namespace
 
@@ -120,12 +139,7 @@ grpc::ServerUnaryReactor* ShardService::Lookup(grpc::CallbackServerContext* ctx,
 
 StatusOr<std::vector<v1::VerifyResponse>> ShardService::DoVerify(const v1::VerifyRequest& req) {
   SHINGLETON_ASSIGN_OR_RETURN(IndexStore * store, StoreFor(req.job(), ""));
-  // Signatures of this shard's documents, for verification inside its buckets.
-  std::unordered_map<uint64_t, std::vector<uint32_t>> sigs;
-  SHINGLETON_RETURN_IF_ERROR(store->ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) {
-    sigs.emplace(key, std::move(sig));
-    return Status::Ok();
-  }));
+  SHINGLETON_ASSIGN_OR_RETURN(SignatureMap sigs, SignatureMap::Load(*store));
   VerifyOptions vo;
   vo.threshold = req.threshold();
   if (req.all_pairs_limit()) vo.all_pairs_limit = req.all_pairs_limit();
@@ -134,11 +148,7 @@ StatusOr<std::vector<v1::VerifyResponse>> ShardService::DoVerify(const v1::Verif
       EdgeScan scan,
       VerifyAllBuckets(
           *store, vo,
-          [&sigs](uint64_t key) -> const uint32_t* {
-            auto it = sigs.find(key);
-            return it == sigs.end() ? nullptr : it->second.data();
-          },
-          ResolveThreads(0)));
+          [&sigs](uint64_t key) { return sigs.Find(key); }, ResolveThreads(0)));
   constexpr size_t kChunk = 20000;
   std::vector<v1::VerifyResponse> chunks(1);
   for (const Edge& edge : scan.edges) {
@@ -159,6 +169,69 @@ grpc::ServerWriteReactor<v1::VerifyResponse>* ShardService::Verify(grpc::Callbac
   v1::VerifyRequest copy = *req;
   return new ChunkedWriteReactor<v1::VerifyResponse>(&pool_, CheckToken(ctx, token_),
                                                      [this, copy] { return DoVerify(copy); });
+}
+
+Status ShardService::AddReferencePart(const std::string& part_dir) {
+  SHINGLETON_ASSIGN_OR_RETURN(ReferencePart part, OpenReferencePart(part_dir));
+  for (const ReferencePart& p : parts_) {
+    if (p.record.generation_checksum == part.record.generation_checksum) {
+      return Status::AlreadyExists(part_dir + ": this shard already serves a part of generation " +
+                                   part.record.generation);
+    }
+  }
+  parts_.push_back(std::move(part));
+  return Status::Ok();
+}
+
+StatusOr<std::vector<v1::MatchReferenceResponse>> ShardService::DoMatchReference(
+    const v1::MatchReferenceRequest& req) {
+  const ReferencePart* part = nullptr;
+  for (const ReferencePart& p : parts_) {
+    if (p.record.generation_checksum == req.generation_checksum()) part = &p;
+  }
+  const std::string wanted = PartDirName(req.part(), req.parts());
+  if (part == nullptr) {
+    return Status::Mismatch("this shard serves no part of the reference generation with checksum " +
+                            req.generation_checksum() + "; start it with --reference-part .../" + wanted);
+  }
+  if (part->record.part != req.part() || part->record.parts != req.parts()) {
+    return Status::Mismatch("this shard serves " + PartDirName(part->record.part, part->record.parts) +
+                            " of generation " + part->record.generation + ", but is place " +
+                            std::to_string(req.part()) + " of " + std::to_string(req.parts()) +
+                            " in the shard map: it needs " + wanted);
+  }
+  std::vector<v1::MatchReferenceResponse> chunks(1);
+  auto store = StoreFor(req.job(), "");
+  if (!store.ok()) {
+    if (store.status().code() == Status::Code::kNotFound) return chunks;  // no posting of the job here
+    return store.status();
+  }
+  IndexStore* job = store.value();
+  if (job->scheme().Serialize() != part->record.scheme) {
+    return Status::Mismatch("job " + req.job() + " has scheme " + job->scheme().Serialize() +
+                            "; generation " + part->record.generation + " has " + part->record.scheme);
+  }
+  SHINGLETON_ASSIGN_OR_RETURN(SignatureMap sigs, SignatureMap::Load(*job));
+  SHINGLETON_ASSIGN_OR_RETURN(
+      std::vector<ReferenceHit> hits,
+      MergeWithReference(*part->store, StoreBandKeys(*job), [&sigs](uint64_t key) { return sigs.Find(key); },
+                         req.threshold()));
+  constexpr int kChunk = 20000;
+  for (const ReferenceHit& h : hits) {
+    if (chunks.back().hits_size() >= kChunk) chunks.emplace_back();
+    v1::ReferenceHit* out = chunks.back().add_hits();
+    out->set_doc(h.doc);
+    out->set_ref(h.ref);
+    out->set_similarity(h.similarity);
+  }
+  return chunks;
+}
+
+grpc::ServerWriteReactor<v1::MatchReferenceResponse>* ShardService::MatchReference(
+    grpc::CallbackServerContext* ctx, const v1::MatchReferenceRequest* req) {
+  v1::MatchReferenceRequest copy = *req;
+  return new ChunkedWriteReactor<v1::MatchReferenceResponse>(&pool_, CheckToken(ctx, token_),
+                                                             [this, copy] { return DoMatchReference(copy); });
 }
 
 grpc::ServerUnaryReactor* ShardService::GetStats(grpc::CallbackServerContext* ctx,

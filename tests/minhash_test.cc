@@ -17,6 +17,9 @@
 #include <string>
 #include <vector>
 
+#include <hwy/targets.h>
+
+#include "index/minhash_simd.h"
 #include "index/normalizer.h"
 #include "index/scheme.h"
 #include "index/shingler.h"
@@ -26,15 +29,6 @@ namespace {
 
 // A pair of sets with an exactly known Jaccard similarity
 // J = |A ∩ B| / |A ∪ B| (Broder 1997, "resemblance").
-
-// Exact Jaccard by brute force over std::set (definition).
-double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b) {
-  const std::set<uint64_t> sa(a.begin(), a.end()), sb(b.begin(), b.end());
-  size_t common = 0;
-  for (uint64_t v : sa) common += sb.count(v);
-  const size_t uni = sa.size() + sb.size() - common;
-  return uni == 0 ? 1.0 : static_cast<double>(common) / static_cast<double>(uni);
-}
 
 std::vector<uint32_t> Signature(const MinHasher& h, const std::vector<uint64_t>& set) {
   std::vector<uint32_t> sig(static_cast<size_t>(h.num_hashes()));
@@ -62,7 +56,7 @@ void CheckAccuracy(int k) {
     double sum = 0, sum_sq = 0;
     for (int t = 0; t < kTrials; ++t) {
       const testing::SetPair p = testing::MakeSetPair(j, kUnion, &rng);
-      ASSERT_DOUBLE_EQ(BruteForceJaccard(p.a, p.b), j);
+      ASSERT_DOUBLE_EQ(testing::BruteForceJaccard(p.a, p.b), j);
       const MinHasher h(k, rng());  // a fresh hash family per trial
       const std::vector<uint32_t> sa = Signature(h, p.a), sb = Signature(h, p.b);
       const double est = EstimateJaccard(sa.data(), sb.data(), k);
@@ -110,7 +104,7 @@ TEST(MinHashTest, DisjointSetsEstimateZero) {
   std::mt19937_64 rng(2);
   for (int t = 0; t < 50; ++t) {
     const testing::SetPair p = testing::MakeSetPair(0.0, 200, &rng);
-    ASSERT_EQ(BruteForceJaccard(p.a, p.b), 0.0);
+    ASSERT_EQ(testing::BruteForceJaccard(p.a, p.b), 0.0);
     const MinHasher h(128, rng());
     const auto sa = Signature(h, p.a), sb = Signature(h, p.b);
     EXPECT_EQ(EstimateJaccard(sa.data(), sb.data(), 128), 0.0);
@@ -174,6 +168,36 @@ TEST(MinHashTest, SignatureMatchesMultiplyShiftDefinition) {
     }
     EXPECT_EQ(Signature(MinHasher(k, seed), p.a), expected) << "seed " << seed;
   }
+}
+
+// The Highway kernel (minhash_simd.h) against the scalar definition, bit for bit,
+// on every instruction set compiled in and supported by this CPU; k values that are
+// and are not multiples of the vector length, and chunk boundaries of Sign (512).
+TEST(MinHashTest, VectorKernelEqualsScalarDefinitionOnEveryTarget) {
+  std::mt19937_64 rng(6);
+  std::vector<uint64_t> hashes(1500);
+  for (uint64_t& x : hashes) x = rng();
+  hashes[7] = 0;                       // edge values of the 64-bit key
+  hashes[8] = ~0ULL;
+  hashes[9] = 0xFFFFFFFFULL;
+  hashes[10] = 0xFFFFFFFF00000000ULL;
+  int targets = 0;
+  for (int64_t target : hwy::SupportedAndGeneratedTargets()) {
+    hwy::SetSupportedTargetsForTest(target);
+    ++targets;
+    for (int k : {1, 3, 8, 9, 16, 31, 64, 128, 200, 1000}) {
+      const MinHasher h(k, 0x5348494e47ULL + k);
+      for (size_t n : {size_t{0}, size_t{1}, size_t{5}, size_t{511}, size_t{512}, size_t{1500}}) {
+        std::vector<uint32_t> fast(k), slow(k);
+        h.Sign(hashes.data(), n, fast.data());
+        h.SignScalar(hashes.data(), n, slow.data());
+        ASSERT_EQ(fast, slow) << hwy::TargetName(target) << " k=" << k << " n=" << n;
+      }
+    }
+  }
+  hwy::SetSupportedTargetsForTest(0);
+  std::printf("kernel checked on %d targets; dispatch picks %s\n", targets, Ms32KernelTarget());
+  EXPECT_GE(targets, 1);
 }
 
 // Fraction of equal positions (definition of the estimator).
@@ -320,7 +344,7 @@ TEST(ShinglerTest, ExactJaccardByDefinition) {
   ASSERT_EQ(a.size(), 6u);
   ASSERT_EQ(b.size(), 5u);
   EXPECT_DOUBLE_EQ(ExactJaccard(a, b), 3.0 / 8.0);
-  EXPECT_DOUBLE_EQ(ExactJaccard(a, b), BruteForceJaccard(a, b));
+  EXPECT_DOUBLE_EQ(ExactJaccard(a, b), testing::BruteForceJaccard(a, b));
 }
 
 }  // namespace

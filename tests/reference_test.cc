@@ -19,14 +19,7 @@ using namespace shingleton::testing;
 const std::string kCorpus = std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/crawl-2026-11.jsonl";
 
 // The demo corpus split in two "crawls": even lines and odd lines.
-void SplitInTwo(const TempDir& dir) {
-  std::ifstream in(kCorpus);
-  std::string a, b;
-  int n = 0;
-  for (std::string line; std::getline(in, line); ++n) (n % 2 ? b : a) += line + "\n";
-  WriteFile(dir.File("old.jsonl"), a);
-  WriteFile(dir.File("new.jsonl"), b);
-}
+void SplitInTwo(const TempDir& dir) { SplitLinesInTwo(kCorpus, dir.File("old.jsonl"), dir.File("new.jsonl")); }
 
 DedupOptions Job(const std::string& input, const std::string& out) {
   DedupOptions o;

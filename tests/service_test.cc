@@ -7,6 +7,7 @@
 
 #include <algorithm>
 #include <fstream>
+#include <functional>
 #include <memory>
 #include <set>
 #include <thread>
@@ -25,9 +26,14 @@ const std::string kCorpus = std::string(SHINGLETON_SOURCE_DIR) + "/demo_data/cra
 // Shards and a coordinator as child processes in one temporary directory.
 class LocalCluster {
  public:
+  // `shard_args(i)` gives the extra arguments of shard i (e.g. its reference part).
+  using ShardArgsFn = std::function<std::vector<std::string>(int)>;
   LocalCluster(const TempDir& dir, int shards, std::vector<std::string> server_args = {},
-               std::vector<std::string> coordinator_args = {})
-      : dir_(dir), server_args_(std::move(server_args)), coordinator_args_(std::move(coordinator_args)) {
+               std::vector<std::string> coordinator_args = {}, ShardArgsFn shard_args = nullptr)
+      : dir_(dir),
+        server_args_(std::move(server_args)),
+        coordinator_args_(std::move(coordinator_args)),
+        shard_args_(std::move(shard_args)) {
     for (int i = 0; i < shards; ++i) StartShard(i);
     std::string list;
     for (int i = 0; i < shards; ++i) list += (i ? "," : "") + shard_addresses_[i];
@@ -85,6 +91,10 @@ class LocalCluster {
     std::vector<std::string> args = {"shard", "--listen", address, "--db", dir_.File("shard" + n),
                                      "--port-file", port_file};
     args.insert(args.end(), server_args_.begin(), server_args_.end());
+    if (shard_args_) {
+      const auto extra = shard_args_(i);
+      args.insert(args.end(), extra.begin(), extra.end());
+    }
     if (static_cast<size_t>(i) >= shards_.size()) {
       shards_.push_back(std::make_unique<ChildProcess>());
       shard_addresses_.emplace_back();
@@ -95,6 +105,7 @@ class LocalCluster {
 
   const TempDir& dir_;
   std::vector<std::string> server_args_, coordinator_args_;
+  ShardArgsFn shard_args_;
   std::vector<std::unique_ptr<ChildProcess>> shards_;
   std::vector<std::string> shard_addresses_;
   ChildProcess coordinator_;
@@ -218,7 +229,8 @@ TEST(ServiceTest, CoordinatorRestartKeepsTheJobAndQueryAnswers) {
 }
 
 // Against a frozen reference generation, the service decides exactly as the
-// embedded job with --reference does.
+// embedded job with --reference does; each shard serves its part of the
+// generation (reference-split) and a shard serving the wrong part is a clear error.
 TEST(ServiceTest, ReferenceGenerationsGiveTheEmbeddedDecisions) {
   TempDir dir;
   auto parts = SplitCorpus(dir, 2);
@@ -235,7 +247,31 @@ TEST(ServiceTest, ReferenceGenerationsGiveTheEmbeddedDecisions) {
   emb.references = {dir.File("ref")};
   ASSERT_TRUE(RunDedupJob(emb).ok());
 
-  LocalCluster cluster(dir, 3, {}, {"--reference", dir.File("ref")});
+  RunResult split = RunShingleton({"reference-split", "--reference", dir.File("ref"), "--shards", "3", "--to",
+                                   dir.File("ref-parts")});
+  ASSERT_EQ(split.exit_code, 0) << split.output;
+  const std::string ref_before = ReadFile(dir.File("ref/generation.json"));
+  auto part_of = [&](int i) {
+    return std::vector<std::string>{"--reference-part",
+                                    dir.File("ref-parts/part-" + std::to_string(i) + "-of-3")};
+  };
+  {
+    // Shard 1 is given shard 2's part: finalize names the shard and the part it needs.
+    TempDir wrong_dir;
+    LocalCluster wrong(wrong_dir, 3, {}, {"--reference", dir.File("ref")},
+                       [&](int i) { return part_of(i == 1 ? 2 : i); });
+    ASSERT_TRUE(wrong.ok()) << wrong.Logs();
+    ASSERT_EQ(RunShingleton({"ingest", "--coordinator", wrong.coordinator(), "--job", "nov", "--input",
+                             parts[1]}).exit_code, 0);
+    RunResult fin = RunShingleton({"finalize", "--coordinator", wrong.coordinator(), "--job", "nov",
+                                   "--out", wrong_dir.File("out")});
+    EXPECT_NE(fin.exit_code, 0);
+    EXPECT_NE(fin.output.find("(gRPC 9)"), std::string::npos) << fin.output;  // FAILED_PRECONDITION
+    EXPECT_NE(fin.output.find("it needs part-1-of-3"), std::string::npos) << fin.output;
+    EXPECT_FALSE(std::ifstream(wrong_dir.File("out/drop.jsonl")).good()) << "no half-written manifest";
+    EXPECT_TRUE(wrong.Stop());
+  }
+  LocalCluster cluster(dir, 3, {}, {"--reference", dir.File("ref")}, part_of);
   ASSERT_TRUE(cluster.ok()) << cluster.Logs();
   ASSERT_EQ(RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "nov", "--input",
                            parts[1]}).exit_code, 0);
@@ -252,7 +288,9 @@ TEST(ServiceTest, ReferenceGenerationsGiveTheEmbeddedDecisions) {
   };
   // Reasons and generation names too: the drop lines are identical.
   EXPECT_EQ(sorted_lines(dir.File("service/drop.jsonl")), sorted_lines(dir.File("embedded-ref/drop.jsonl")));
+  EXPECT_GT(ReadManifests(dir.File("service")).kept_of.size() - ReadManifests(dir.File("service")).kept.size(), 100u);
   EXPECT_TRUE(cluster.Stop());
+  EXPECT_EQ(ReadFile(dir.File("ref/generation.json")), ref_before);
 }
 
 // A shard that is down: the ingest fails with UNAVAILABLE naming the shard and

@@ -29,6 +29,15 @@ TempDir::~TempDir() {
   fs::remove_all(path_, ec);
 }
 
+void SplitLinesInTwo(const std::string& path, const std::string& even, const std::string& odd) {
+  std::ifstream in(path);
+  std::string a, b;
+  int n = 0;
+  for (std::string line; std::getline(in, line); ++n) (n % 2 ? b : a) += line + "\n";
+  WriteFile(even, a);
+  WriteFile(odd, b);
+}
+
 std::string ReadFile(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
   std::stringstream ss;
@@ -201,6 +210,14 @@ Quality Evaluate(const Corpus& corpus, const Manifests& m, double pair_threshold
 #include <cmath>
 
 namespace shingleton::testing {
+
+double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b) {
+  const std::set<uint64_t> sa(a.begin(), a.end()), sb(b.begin(), b.end());
+  size_t common = 0;
+  for (uint64_t v : sa) common += sb.count(v);
+  const size_t uni = sa.size() + sb.size() - common;
+  return uni == 0 ? 1.0 : static_cast<double>(common) / static_cast<double>(uni);
+}
 
 SetPair MakeSetPair(double j, int union_size, std::mt19937_64* rng) {
   const int common = static_cast<int>(std::lround(j * union_size));

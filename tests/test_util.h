@@ -26,6 +26,8 @@ class TempDir {
 std::string ReadFile(const std::string& path);
 void WriteFile(const std::string& path, const std::string& data);
 bool FileExists(const std::string& path);
+// Two "crawls" from one JSON Lines file: its even lines to `even`, odd lines to `odd`.
+void SplitLinesInTwo(const std::string& path, const std::string& even, const std::string& odd);
 
 // {"id": id, "text": text} as one JSON line (with newline), properly escaped.
 std::string JsonLine(const std::string& id, const std::string& text, const std::string& url = "");
@@ -91,5 +93,9 @@ struct SetPair {
   std::vector<uint64_t> b;
 };
 SetPair MakeSetPair(double j, int union_size, std::mt19937_64* rng);
+
+// Exact Jaccard |A ∩ B| / |A ∪ B| by brute force over std::set (definition); 1.0
+// when both are empty.
+double BruteForceJaccard(const std::vector<uint64_t>& a, const std::vector<uint64_t>& b);
 
 }  // namespace shingleton::testing
