@@ -24,4 +24,11 @@ struct EdgeScan {
 StatusOr<EdgeScan> VerifyAllBuckets(const IndexStore& store, const VerifyOptions& options,
                                     const SignatureLookup& lookup, int threads);
 
+// Calls mark(key) for every member of every bucket with >= 2 members — the documents
+// VerifyAllBuckets will look up — from `threads` threads at once (bands in parallel);
+// a key is reported once per shared bucket it is in. Used to load only those
+// signatures into memory before verifying.
+Status ForEachKeyInSharedBuckets(const IndexStore& store, int threads,
+                                 const std::function<void(uint64_t key)>& mark);
+
 }  // namespace shingleton

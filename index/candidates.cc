@@ -2,6 +2,7 @@
 
 #include <algorithm>
 
+#include "index/index_store.h"
 #include "index/minhash.h"
 
 namespace shingleton {
@@ -65,6 +66,43 @@ void DeduplicateEdges(std::vector<Edge>* edges) {
   edges->erase(std::unique(edges->begin(), edges->end(),
                            [](const Edge& x, const Edge& y) { return x.SamePair(y); }),
                edges->end());
+}
+
+Status QueryIndex(const IndexStore& store, const uint32_t* sigs, const uint64_t* buckets, size_t m,
+                  double threshold, std::vector<std::vector<QueryHit>>* out) {
+  const int k = store.scheme().num_hashes, b = store.scheme().bands;
+  std::vector<BucketRef> probes(m * b);
+  for (size_t i = 0; i < m * b; ++i) probes[i] = {static_cast<int>(i % b), buckets[i]};
+  std::vector<std::vector<uint64_t>> members;
+  SHINGLETON_RETURN_IF_ERROR(store.BucketMembersOf(probes, &members));
+  // Candidates of each query (distinct), then the distinct candidates of the batch.
+  std::vector<std::vector<uint64_t>> per_query(m);
+  std::vector<uint64_t> all;
+  for (size_t i = 0; i < m; ++i) {
+    std::vector<uint64_t>& c = per_query[i];
+    for (int band = 0; band < b; ++band) {
+      const auto& mem = members[i * b + band];
+      c.insert(c.end(), mem.begin(), mem.end());
+    }
+    std::sort(c.begin(), c.end());
+    c.erase(std::unique(c.begin(), c.end()), c.end());
+    all.insert(all.end(), c.begin(), c.end());
+  }
+  std::sort(all.begin(), all.end());
+  all.erase(std::unique(all.begin(), all.end()), all.end());
+  std::vector<uint32_t> cand_sigs;
+  std::vector<char> found;
+  SHINGLETON_RETURN_IF_ERROR(store.GetSignatures(all, &cand_sigs, &found));
+  out->assign(m, {});
+  for (size_t i = 0; i < m; ++i) {
+    for (uint64_t key : per_query[i]) {
+      const size_t at = static_cast<size_t>(std::lower_bound(all.begin(), all.end(), key) - all.begin());
+      if (!found[at]) continue;
+      const double sim = EstimateJaccard(sigs + i * k, &cand_sigs[at * k], k);
+      if (sim >= threshold) (*out)[i].push_back({key, static_cast<float>(sim)});
+    }
+  }
+  return Status::Ok();
 }
 
 }  // namespace shingleton

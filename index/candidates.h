@@ -19,6 +19,7 @@
 #include <vector>
 
 #include "index/document.h"
+#include "index/status.h"
 
 namespace shingleton {
 
@@ -55,5 +56,22 @@ class BucketVerifier {
 
 // Sorts edges by pair and keeps one per pair (the one from the lowest band).
 void DeduplicateEdges(std::vector<Edge>* edges);
+
+// Online queries: "which indexed documents are near-duplicates of these?".
+struct QueryHit {
+  uint64_t key = 0;
+  float similarity = 0;  // estimated Jaccard
+};
+
+// For `m` query documents (sigs: m x k values, buckets: m x b, in the index's
+// scheme), the indexed documents sharing a bucket with each query whose estimated
+// Jaccard is >= threshold, ascending by key: (*out)[i] for query i. Batched: one
+// sorted pass over all m x b buckets (IndexStore::BucketMembersOf) and one MultiGet
+// of every distinct candidate's signature (IndexStore::GetSignatures), so the cost
+// per query falls with the batch size. A candidate without a stored signature is
+// skipped (a shard stores only the signatures of documents it has postings of).
+// Thread safety: as the store's const methods.
+Status QueryIndex(const class IndexStore& store, const uint32_t* sigs, const uint64_t* buckets, size_t m,
+                  double threshold, std::vector<std::vector<QueryHit>>* out);
 
 }  // namespace shingleton

@@ -20,6 +20,7 @@
 #include <oneapi/tbb/task_arena.h>
 
 #include <algorithm>
+#include <atomic>
 #include <unordered_map>
 
 namespace shingleton {
@@ -91,7 +92,8 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
   std::unordered_map<ContentKey, uint64_t, ContentKeyHash> first_with_content;
   const SketchScheme& scheme = store->scheme();
   const int k = scheme.num_hashes, b = scheme.bands;
-  WriteBatchBuilder batch(store);
+  // Documents, signatures and postings go to sorted SST runs, not the memtable.
+  BulkIndexWriter bulk(store);
   Clock::time_point last_progress = start;
   auto skip = [&](BadRecord kind, const Status& why) {
     ++summary->skipped[static_cast<size_t>(kind)];
@@ -115,7 +117,9 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
       if (rec.truncated) ++summary->truncated_records;
       DocumentMeta meta = rec.meta;
       meta.ordinal = table->size();
-      Status added = table->Add(meta, signed_batch.sig(i, k));
+      // The signature goes to the index only; LoadSignatures() brings back the ones
+      // verification needs.
+      Status added = table->Add(meta, nullptr);
       if (!added.ok()) {
         Status bad = Status::BadInput(added.message());
         if (!o.skip_bad) return bad;
@@ -128,12 +132,13 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
         out->normalized_urls.push_back(url.ok() ? url.value() : std::string());
       }
       auto [first, fresh] = first_with_content.emplace(ContentKey{meta.content_hi, meta.content_lo}, meta.key);
+      SHINGLETON_RETURN_IF_ERROR(bulk.AddMeta(meta));
+      SHINGLETON_RETURN_IF_ERROR(bulk.AddSignature(meta.key, signed_batch.sig(i, k), k));
       if (fresh) {
-        batch.AddDocument(meta, signed_batch.sig(i, k), k, signed_batch.bucket(i, b));
+        const uint64_t* buckets = signed_batch.bucket(i, b);
+        for (int band = 0; band < b; ++band) SHINGLETON_RETURN_IF_ERROR(bulk.AddPosting(band, buckets[band], meta.key));
         continue;
       }
-      batch.AddMeta(meta);
-      batch.AddSignature(meta.key, signed_batch.sig(i, k), k);
       Edge e;
       e.a = std::min(meta.key, first->second);
       e.b = std::max(meta.key, first->second);
@@ -143,7 +148,6 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
       ++summary->exact_duplicates;
     }
     summary->text_bytes += signed_batch.text_bytes;
-    SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
     if (o.progress && SecondsSince(last_progress) > 0.2) {
       last_progress = Clock::now();
       o.progress({summary->records_read, summary->text_bytes, signed_batch.raw_bytes_done,
@@ -151,7 +155,51 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
     }
     return Status::Ok();
   };
-  return RunIngestPipeline(o.ingest, scheme, sink);
+  SHINGLETON_RETURN_IF_ERROR(RunIngestPipeline(o.ingest, scheme, sink));
+  return bulk.Finish();
+}
+
+// Holds in the table the signatures that the rest of the job reads: of every
+// document in a shared bucket and of both ends of every exact-duplicate edge; of
+// every document when deduplicating against references (each is matched).
+Status LoadSignatures(const IndexStore& store, bool all, const std::vector<Edge>& exact_edges, int threads,
+                      DocTable* table) {
+  const int k = table->num_hashes();
+  if (all) {
+    return store.ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) -> Status {
+      const int64_t i = table->IndexOf(key);
+      if (i >= 0) table->SetSignature(static_cast<size_t>(i), sig.data());
+      return Status::Ok();
+    });
+  }
+  std::vector<std::atomic<uint8_t>> wanted(table->size());
+  auto mark = [&](uint64_t key) {
+    const int64_t i = table->IndexOf(key);
+    if (i >= 0) wanted[static_cast<size_t>(i)].store(1, std::memory_order_relaxed);
+  };
+  SHINGLETON_RETURN_IF_ERROR(ForEachKeyInSharedBuckets(store, threads, mark));
+  for (const Edge& e : exact_edges) {
+    mark(e.a);
+    mark(e.b);
+  }
+  std::vector<uint64_t> keys;
+  for (size_t i = 0; i < table->size(); ++i) {
+    if (wanted[i].load(std::memory_order_relaxed)) keys.push_back(table->key(i));
+  }
+  std::sort(keys.begin(), keys.end());
+  constexpr size_t kChunk = 4096;
+  std::vector<uint64_t> chunk;
+  std::vector<uint32_t> sigs;
+  std::vector<char> found;
+  for (size_t from = 0; from < keys.size(); from += kChunk) {
+    chunk.assign(keys.begin() + from, keys.begin() + std::min(keys.size(), from + kChunk));
+    SHINGLETON_RETURN_IF_ERROR(store.GetSignatures(chunk, &sigs, &found));
+    for (size_t j = 0; j < chunk.size(); ++j) {
+      if (!found[j]) return Status::Corruption("no signature for document key " + std::to_string(chunk[j]));
+      table->SetSignature(static_cast<size_t>(table->IndexOf(chunk[j])), &sigs[j * k]);
+    }
+  }
+  return Status::Ok();
 }
 
 StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& store,
@@ -172,16 +220,10 @@ StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& s
 
 Status PersistDecisions(IndexStore* store, const std::vector<Decision>& decisions,
                         const std::vector<Edge>& edges) {
-  WriteBatchBuilder batch(store);
-  for (const Decision& d : decisions) {
-    batch.AddDecision(d);
-    if (batch.count() >= 8192) SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
-  }
-  for (const Edge& e : edges) {
-    batch.AddEdge(e);
-    if (batch.count() >= 8192) SHINGLETON_RETURN_IF_ERROR(store->Write(&batch));
-  }
-  return store->Write(&batch);
+  BulkIndexWriter bulk(store);
+  for (const Decision& d : decisions) SHINGLETON_RETURN_IF_ERROR(bulk.AddDecision(d));
+  for (const Edge& e : edges) SHINGLETON_RETURN_IF_ERROR(bulk.AddEdge(e));
+  return bulk.Finish();
 }
 
 // Moves the finished index into place, replacing an older one.
@@ -305,6 +347,8 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
 
   report("candidates");
   Clock::time_point t = Clock::now();
+  SHINGLETON_RETURN_IF_ERROR(LoadSignatures(*store, refs != nullptr, ingested.exact_edges,
+                                            ResolveThreads(o.ingest.threads), &table));
   SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, *store, table, &summary));
   edges.insert(edges.end(), ingested.exact_edges.begin(), ingested.exact_edges.end());
   DeduplicateEdges(&edges);

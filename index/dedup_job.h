@@ -2,7 +2,10 @@
 //
 // Composes the library's stages:
 //   IngestPipeline (read, parse, normalise, shingle, sign; parallel, bounded)
-//     -> IndexStore (postings, signatures, documents; RocksDB, bulk-built)
+//     -> IndexStore via BulkIndexWriter (postings, signatures, documents as sorted
+//        SST runs; the in-memory DocTable holds no signature yet)
+//     -> the signatures of documents in shared buckets (and of exact duplicates;
+//        of all documents when matching references) loaded back into the DocTable
 //     -> BucketVerifier over every bucket of every band (parallel over bands)
 //     -> ResolveClusters (union-find + keep policy)
 //     -> decisions and edges back into the index, manifests, summary.json.

@@ -6,10 +6,14 @@
 #include <rocksdb/table.h>
 #include <rocksdb/filter_policy.h>
 #include <rocksdb/memtablerep.h>
+#include <rocksdb/slice_transform.h>
+#include <rocksdb/sst_file_writer.h>
 #include <rocksdb/write_batch.h>
 
+#include <algorithm>
 #include <cstring>
 #include <filesystem>
+#include <numeric>
 
 #include "index/coding.h"
 
@@ -43,16 +47,54 @@ std::string Key64(uint64_t k) {
   return s;
 }
 
-rocksdb::ColumnFamilyOptions FamilyOptions(bool point_lookups, bool bulk_load) {
+constexpr size_t kPostingPrefix = 10;  // band (u16) | bucket (u64)
+
+rocksdb::ColumnFamilyOptions FamilyOptions(const std::string& name, bool bulk_load) {
   rocksdb::ColumnFamilyOptions cf;
   cf.write_buffer_size = 64 << 20;
   // A bulk build only appends and reads after a flush: an unsorted vector memtable
   // (sorted once at flush) costs far less per insert than the default skip list.
-  if (bulk_load) cf.memtable_factory = std::make_shared<rocksdb::VectorRepFactory>();
+  // Its big families arrive as ingested SST files (BulkIndexWriter); compacting
+  // them while the job runs would only take CPU from signing, so compaction waits
+  // for a later open (or freeze's explicit Compact()).
+  if (bulk_load) {
+    cf.memtable_factory = std::make_shared<rocksdb::VectorRepFactory>();
+    cf.disable_auto_compactions = true;
+  }
   rocksdb::BlockBasedTableOptions table;
-  if (point_lookups) table.filter_policy.reset(rocksdb::NewBloomFilterPolicy(10));
+  if (name == "postings") {
+    // Buckets are read by prefix (band | bucket): a prefix bloom filter answers
+    // "no such bucket" without reading a data block, which is most probes of a query.
+    cf.prefix_extractor.reset(rocksdb::NewFixedPrefixTransform(kPostingPrefix));
+    table.filter_policy.reset(rocksdb::NewBloomFilterPolicy(10));
+    table.whole_key_filtering = false;
+  } else {
+    table.filter_policy.reset(rocksdb::NewBloomFilterPolicy(10));
+  }
+  // MinHash values are uniform 32-bit numbers: block compression only costs CPU.
+  if (name == "signatures") cf.compression = rocksdb::kNoCompression;
   cf.table_factory.reset(rocksdb::NewBlockBasedTableFactory(table));
   return cf;
+}
+
+const std::string& EncodeDecision(const Decision& d, std::string* value) {
+  value->clear();
+  PutBigEndian64(value, d.cluster);
+  PutBigEndian64(value, d.kept_key);
+  uint32_t bits;
+  std::memcpy(&bits, &d.similarity, 4);
+  PutFixed32(value, bits);
+  PutVarint(value, d.cluster_size);
+  PutVarint(value, d.for_reference ? 1 : 0);
+  return *value;
+}
+
+void EncodeEdgeValue(const Edge& e, std::string* value) {
+  uint32_t bits;
+  std::memcpy(&bits, &e.similarity, 4);
+  value->clear();
+  PutFixed32(value, bits);
+  PutVarint(value, e.band);
 }
 
 }  // namespace
@@ -109,25 +151,13 @@ void WriteBatchBuilder::AddUrl(const std::string& normalized_url, uint64_t key) 
 }
 
 void WriteBatchBuilder::AddDecision(const Decision& d) {
-  value_.clear();
-  PutBigEndian64(&value_, d.cluster);
-  PutBigEndian64(&value_, d.kept_key);
-  uint32_t bits;
-  std::memcpy(&bits, &d.similarity, 4);
-  PutFixed32(&value_, bits);
-  PutVarint(&value_, d.cluster_size);
-  PutVarint(&value_, d.for_reference ? 1 : 0);
-  batch_->Put(store_->decisions_, Key64(d.key), value_);
+  batch_->Put(store_->decisions_, Key64(d.key), EncodeDecision(d, &value_));
   ++count_;
 }
 
 void WriteBatchBuilder::AddEdge(const Edge& e) {
   // Stored in both directions so EdgesOf() is one prefix scan.
-  uint32_t bits;
-  std::memcpy(&bits, &e.similarity, 4);
-  value_.clear();
-  PutFixed32(&value_, bits);
-  PutVarint(&value_, e.band);
+  EncodeEdgeValue(e, &value_);
   for (int dir = 0; dir < 2; ++dir) {
     key_.clear();
     PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
@@ -135,6 +165,171 @@ void WriteBatchBuilder::AddEdge(const Edge& e) {
     batch_->Put(store_->edges_, key_, value_);
     ++count_;
   }
+}
+
+// ---- BulkIndexWriter ----------------------------------------------------------
+
+namespace {
+enum BulkFamily { kBulkDocs, kBulkSignatures, kBulkPostings, kBulkContent, kBulkDecisions, kBulkEdges, kBulkFamilies };
+constexpr const char* kBulkFamilyNames[kBulkFamilies] = {"docs",    "signatures", "postings",
+                                                         "content", "decisions",  "edges"};
+}  // namespace
+
+// One family's buffered entries: keys and values back to back in `bytes`.
+// Each entry carries its first 16 key bytes as two big-endian integers, so sorting
+// compares integers (all bulk keys are 8 to 24 bytes; the rest breaks ties).
+struct BulkIndexWriter::Run {
+  struct Entry {
+    uint64_t head[2];
+    uint64_t offset;
+    uint32_t key_size, value_size;
+  };
+  std::string bytes;
+  std::vector<Entry> entries;
+  size_t Footprint() const { return bytes.size() + entries.size() * sizeof(Entry); }
+};
+
+BulkIndexWriter::BulkIndexWriter(IndexStore* store, size_t buffer_bytes)
+    : store_(store), buffer_bytes_(buffer_bytes) {
+  for (int f = 0; f < kBulkFamilies; ++f) runs_.push_back(std::make_unique<Run>());
+}
+
+BulkIndexWriter::~BulkIndexWriter() {
+  (void)WaitForWriter();  // a job that fails drops its runs; the error was reported
+  std::error_code ec;
+  fs::remove_all(store_->path_ + "/bulk-runs", ec);
+}
+
+Status BulkIndexWriter::Add(int family, std::string_view key, std::string_view value) {
+  Run& run = *runs_[family];
+  Run::Entry e{{0, 0}, run.bytes.size(), static_cast<uint32_t>(key.size()), static_cast<uint32_t>(value.size())};
+  for (size_t i = 0; i < 16 && i < key.size(); ++i) {
+    e.head[i / 8] |= static_cast<uint64_t>(static_cast<unsigned char>(key[i])) << (56 - 8 * (i % 8));
+  }
+  run.entries.push_back(e);
+  run.bytes.append(key.data(), key.size());
+  run.bytes.append(value.data(), value.size());
+  buffered_ += key.size() + value.size() + sizeof(Run::Entry);
+  if (buffered_ < buffer_bytes_) return Status::Ok();
+  int largest = 0;
+  for (int f = 1; f < kBulkFamilies; ++f) {
+    if (runs_[f]->Footprint() > runs_[largest]->Footprint()) largest = f;
+  }
+  return StartRun(largest);
+}
+
+Status BulkIndexWriter::AddDecision(const Decision& d) {
+  key_.clear();
+  PutBigEndian64(&key_, d.key);
+  return Add(kBulkDecisions, key_, EncodeDecision(d, &value_));
+}
+
+Status BulkIndexWriter::AddEdge(const Edge& e) {
+  EncodeEdgeValue(e, &value_);
+  for (int dir = 0; dir < 2; ++dir) {
+    key_.clear();
+    PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
+    PutBigEndian64(&key_, dir == 0 ? e.b : e.a);
+    SHINGLETON_RETURN_IF_ERROR(Add(kBulkEdges, key_, value_));
+  }
+  return Status::Ok();
+}
+
+Status BulkIndexWriter::WaitForWriter() {
+  if (writer_.joinable()) writer_.join();
+  writing_.reset();
+  Status s = writer_status_;
+  writer_status_ = Status::Ok();
+  return s;
+}
+
+Status BulkIndexWriter::StartRun(int family) {
+  SHINGLETON_RETURN_IF_ERROR(WaitForWriter());
+  writing_ = std::move(runs_[family]);
+  runs_[family] = std::make_unique<Run>();
+  buffered_ -= std::min(buffered_, writing_->Footprint());
+  ++files_;
+  writer_ = std::thread([this, family, number = next_file_++] {
+    writer_status_ = WriteRun(family, writing_.get(), number);
+  });
+  return Status::Ok();
+}
+
+Status BulkIndexWriter::AddMeta(const DocumentMeta& doc) {
+  key_.clear();
+  PutBigEndian64(&key_, doc.key);
+  return Add(kBulkDocs, key_, IndexStore::EncodeDocument(doc));
+}
+
+Status BulkIndexWriter::AddSignature(uint64_t key, const uint32_t* sig, int k) {
+  key_.clear();
+  PutBigEndian64(&key_, key);
+  value_.clear();
+  for (int i = 0; i < k; ++i) PutFixed32(&value_, sig[i]);
+  return Add(kBulkSignatures, key_, value_);
+}
+
+Status BulkIndexWriter::AddPosting(int band, uint64_t bucket, uint64_t key) {
+  key_.clear();
+  PutBigEndian16(&key_, static_cast<uint16_t>(band));
+  PutBigEndian64(&key_, bucket);
+  PutBigEndian64(&key_, key);
+  return Add(kBulkPostings, key_, std::string_view());
+}
+
+Status BulkIndexWriter::AddContent(const DocumentMeta& doc) {
+  key_.clear();
+  PutBigEndian64(&key_, doc.content_hi);
+  PutBigEndian64(&key_, doc.content_lo);
+  PutBigEndian64(&key_, doc.key);
+  return Add(kBulkContent, key_, std::string_view());
+}
+
+Status BulkIndexWriter::WriteRun(int family, Run* run_ptr, uint64_t number) {
+  Run& run = *run_ptr;
+  if (run.entries.empty()) return Status::Ok();
+  const char* base = run.bytes.data();
+  auto key_of = [base](const Run::Entry& e) { return std::string_view(base + e.offset, e.key_size); };
+  // Stable: of equal keys the last added stays last, and is the one written.
+  std::stable_sort(run.entries.begin(), run.entries.end(), [&](const Run::Entry& x, const Run::Entry& y) {
+    if (x.head[0] != y.head[0]) return x.head[0] < y.head[0];
+    if (x.head[1] != y.head[1]) return x.head[1] < y.head[1];
+    return key_of(x) < key_of(y);
+  });
+  const std::string dir = store_->path_ + "/bulk-runs";
+  std::error_code ec;
+  fs::create_directories(dir, ec);
+  if (ec) return Status::IoError("cannot create " + dir + ": " + ec.message());
+  const std::string file = dir + "/run-" + std::to_string(number) + ".sst";
+  const std::string name = kBulkFamilyNames[family];
+  rocksdb::ColumnFamilyHandle* const handles[kBulkFamilies] = {
+      store_->docs_, store_->signatures_, store_->postings_, store_->content_, store_->decisions_, store_->edges_};
+  rocksdb::ColumnFamilyHandle* handle = handles[family];
+  rocksdb::Options options(rocksdb::DBOptions(), FamilyOptions(name, true));
+  rocksdb::SstFileWriter writer(rocksdb::EnvOptions(), options, handle);
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Open(file), "creating " + file));
+  for (size_t i = 0; i < run.entries.size(); ++i) {
+    const Run::Entry& e = run.entries[i];
+    if (i + 1 < run.entries.size() && key_of(run.entries[i + 1]) == key_of(e)) continue;
+    rocksdb::Slice key(base + e.offset, e.key_size), value(base + e.offset + e.key_size, e.value_size);
+    SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Put(key, value), "writing " + file));
+  }
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Finish(), "finishing " + file));
+  rocksdb::IngestExternalFileOptions ingest;
+  ingest.move_files = true;
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(store_->db_->IngestExternalFile(handle, {file}, ingest),
+                                       "ingesting " + name + " into " + store_->path_));
+  return Status::Ok();
+}
+
+Status BulkIndexWriter::Finish() {
+  for (int f = 0; f < kBulkFamilies; ++f) {
+    if (!runs_[f]->entries.empty()) SHINGLETON_RETURN_IF_ERROR(StartRun(f));
+  }
+  SHINGLETON_RETURN_IF_ERROR(WaitForWriter());
+  std::error_code ec;
+  fs::remove_all(store_->path_ + "/bulk-runs", ec);
+  return Status::Ok();
 }
 
 // ---- IndexStore ---------------------------------------------------------------
@@ -159,8 +354,7 @@ StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string
   db_options.allow_concurrent_memtable_write = !options.bulk_load;
   std::vector<rocksdb::ColumnFamilyDescriptor> families;
   for (const char* name : kColumnFamilies) {
-    bool point = std::strcmp(name, "postings") != 0;
-    families.emplace_back(name, FamilyOptions(point, options.bulk_load && !options.read_only));
+    families.emplace_back(name, FamilyOptions(name, options.bulk_load && !options.read_only));
   }
   auto store = std::unique_ptr<IndexStore>(new IndexStore());
   store->path_ = path;
@@ -300,6 +494,7 @@ Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) 
   if (band + 1 <= 0xFFFF) ro.iterate_upper_bound = &upper;
   ro.fill_cache = false;
   ro.readahead_size = 2 << 20;
+  ro.total_order_seek = true;  // a scan across buckets, not one prefix
   std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
   std::vector<uint64_t> members;
   uint64_t current = 0;
@@ -379,13 +574,67 @@ StatusOr<std::vector<uint64_t>> IndexStore::BucketMembers(int band, uint64_t buc
   PutBigEndian16(&prefix, static_cast<uint16_t>(band));
   PutBigEndian64(&prefix, bucket);
   std::vector<uint64_t> out;
-  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(rocksdb::ReadOptions(), postings_));
+  rocksdb::ReadOptions ro;
+  ro.prefix_same_as_start = true;
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
   for (it->Seek(prefix); it->Valid() && it->key().starts_with(prefix); it->Next()) {
     if (it->key().size() != 18) return Status::Corruption("posting key of bad size");
     out.push_back(GetBigEndian64(it->key().data() + 10));
   }
   SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "reading bucket"));
   return out;
+}
+
+Status IndexStore::BucketMembersOf(const std::vector<BucketRef>& probes,
+                                   std::vector<std::vector<uint64_t>>* out) const {
+  out->assign(probes.size(), {});
+  std::vector<size_t> order(probes.size());
+  std::iota(order.begin(), order.end(), 0);
+  std::sort(order.begin(), order.end(), [&](size_t x, size_t y) {
+    return probes[x].band != probes[y].band ? probes[x].band < probes[y].band
+                                            : probes[x].bucket < probes[y].bucket;
+  });
+  rocksdb::ReadOptions ro;
+  ro.prefix_same_as_start = true;
+  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
+  std::string prefix;
+  for (size_t i : order) {
+    prefix.clear();
+    PutBigEndian16(&prefix, static_cast<uint16_t>(probes[i].band));
+    PutBigEndian64(&prefix, probes[i].bucket);
+    std::vector<uint64_t>& members = (*out)[i];
+    for (it->Seek(prefix); it->Valid() && it->key().starts_with(prefix); it->Next()) {
+      if (it->key().size() != 18) return Status::Corruption("posting key of bad size in " + path_);
+      members.push_back(GetBigEndian64(it->key().data() + kPostingPrefix));
+    }
+    SHINGLETON_RETURN_IF_ERROR(FromRocks(it->status(), "reading buckets of " + path_));
+  }
+  return Status::Ok();
+}
+
+Status IndexStore::GetSignatures(const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs,
+                                 std::vector<char>* found) const {
+  const size_t k = static_cast<size_t>(scheme_.num_hashes), n = keys.size();
+  sigs->assign(n * k, 0);
+  found->assign(n, 0);
+  std::vector<char> key_bytes(8 * n);
+  std::vector<rocksdb::Slice> slices(n);
+  for (size_t i = 0; i < n; ++i) {
+    for (int b = 0; b < 8; ++b) key_bytes[8 * i + b] = static_cast<char>(keys[i] >> (56 - 8 * b));
+    slices[i] = rocksdb::Slice(&key_bytes[8 * i], 8);
+  }
+  std::vector<rocksdb::PinnableSlice> values(n);
+  std::vector<rocksdb::Status> statuses(n);
+  db_->MultiGet(rocksdb::ReadOptions(), signatures_, n, slices.data(), values.data(), statuses.data());
+  for (size_t i = 0; i < n; ++i) {
+    if (statuses[i].IsNotFound()) continue;
+    SHINGLETON_RETURN_IF_ERROR(FromRocks(statuses[i], "reading signatures of " + path_));
+    if (values[i].size() != 4 * k) return Status::Corruption("signature of bad size in " + path_);
+    Decoder d(std::string_view(values[i].data(), values[i].size()));
+    for (size_t j = 0; j < k; ++j) (*sigs)[i * k + j] = d.Fixed32();
+    (*found)[i] = 1;
+  }
+  return Status::Ok();
 }
 
 Status IndexStore::ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const {

@@ -1,10 +1,11 @@
 // IndexStore: the banded LSH index persisted in RocksDB.
 //
-// Layout (kLayoutVersion = 2), one column family per kind of data:
+// Layout (kLayoutVersion = 3), one column family per kind of data:
 //   meta        "layout" -> decimal layout version; "scheme" -> SketchScheme::Serialize();
 //               "job" -> the last job's summary JSON
 //   postings    band (u16 BE) | bucket (u64 BE) | doc key (u64 BE) -> ""   (one key per
-//               posting: written without read-modify-write; a bucket is a key-range scan)
+//               posting: written without read-modify-write; a bucket is a key-range scan;
+//               a bloom filter on the 10-byte band | bucket prefix skips absent buckets)
 //   signatures  doc key (u64 BE) -> k x u32 little-endian
 //   docs        doc key (u64 BE) -> DocumentMeta (see EncodeDocument)
 //   decisions   doc key (u64 BE) -> cluster, kept key, similarity, cluster size
@@ -14,14 +15,19 @@
 // Open() checks the layout version and the scheme and refuses mismatches with a
 // message that names both. Every rocksdb::Status is converted here.
 //
+// Layout 3 (from 2): the postings family has the band | bucket prefix extractor and
+// its prefix bloom filter; bulk-built indexes may keep several overlapping level-0
+// files (auto compaction is off while bulk loading).
+//
 // Thread safety: all methods may be called concurrently (RocksDB is thread-safe);
-// a WriteBatchBuilder belongs to one thread.
+// a WriteBatchBuilder and a BulkIndexWriter belong to one thread.
 #pragma once
 
 #include <cstdint>
 #include <functional>
 #include <memory>
 #include <string>
+#include <thread>
 #include <vector>
 
 #include "index/document.h"
@@ -36,7 +42,7 @@ class WriteBatch;
 
 namespace shingleton {
 
-inline constexpr int kLayoutVersion = 2;
+inline constexpr int kLayoutVersion = 3;
 
 struct StoreOptions {
   // Bulk-build mode: writes skip the WAL; durability comes from Flush() before the
@@ -81,6 +87,66 @@ class WriteBatchBuilder {
   size_t count_ = 0;
   std::string key_, value_;  // scratch
   std::unique_ptr<rocksdb::WriteBatch> batch_;
+};
+
+// Writes the bulk data of a batch job (postings, signatures, documents, content,
+// decisions, edges)
+// without the memtable: entries are buffered per family; when all buffers together
+// reach `buffer_bytes`, the largest is sorted,
+// written as one SST file (rocksdb::SstFileWriter) and ingested into the index
+// (IngestExternalFile, moving the file). Several runs of one family overlap and stay
+// level-0 files; reads merge them. Keys must be distinct within the job (doc keys are:
+// the DocTable refuses duplicates); a repeated key keeps the last value.
+// A full run is sorted, written and ingested on a background thread while the next
+// one fills (at most one run in flight, so memory stays below ~(families + 1) x
+// 1.5 x buffer_bytes). Nothing is visible until the run holding it has been ingested;
+// Finish() ingests the rest. REQUIRES: the store was opened with bulk_load (no WAL,
+// no auto compaction).
+class BulkIndexWriter {
+ public:
+  // Default buffer: 96 MiB of keys, values and sort entries over all families.
+  explicit BulkIndexWriter(class IndexStore* store, size_t buffer_bytes = 96 << 20);
+  ~BulkIndexWriter();  // unfinished runs are dropped, their files removed
+  BulkIndexWriter(const BulkIndexWriter&) = delete;
+  BulkIndexWriter& operator=(const BulkIndexWriter&) = delete;
+
+  Status AddMeta(const DocumentMeta& doc);
+  Status AddSignature(uint64_t key, const uint32_t* sig, int k);
+  Status AddPosting(int band, uint64_t bucket, uint64_t key);
+  Status AddContent(const DocumentMeta& doc);
+  Status AddDecision(const Decision& d);
+  Status AddEdge(const Edge& e);
+  // Writes and ingests every buffered run.
+  Status Finish();
+  // SST files ingested so far.
+  size_t files() const { return files_; }
+
+ private:
+  struct Run;
+  Status Add(int family, std::string_view key, std::string_view value);
+  // Hands the family's run to the background writer (after the previous one is done).
+  Status StartRun(int family);
+  // Waits for the background writer; returns its status.
+  Status WaitForWriter();
+  // Sorts, writes and ingests one run as SST file number `number`.
+  Status WriteRun(int family, Run* run, uint64_t number);
+
+  class IndexStore* store_;
+  size_t buffer_bytes_;
+  size_t buffered_ = 0;  // footprint of all runs_
+  std::vector<std::unique_ptr<Run>> runs_;  // by family index
+  size_t files_ = 0;
+  uint64_t next_file_ = 0;
+  std::unique_ptr<Run> writing_;  // the run the background writer owns
+  std::thread writer_;
+  Status writer_status_;          // set by the writer; read after joining it
+  std::string key_, value_;  // scratch
+};
+
+// One probe of the postings: a band's bucket.
+struct BucketRef {
+  int band = 0;
+  uint64_t bucket = 0;
 };
 
 class IndexStore {
@@ -133,6 +199,15 @@ class IndexStore {
 
   // The keys of one bucket, ascending.
   StatusOr<std::vector<uint64_t>> BucketMembers(int band, uint64_t bucket) const;
+  // The members of many buckets in one pass: the probes are visited in key order with
+  // one iterator (the prefix bloom filter skips absent buckets). (*out)[i] holds the
+  // keys of probes[i], ascending.
+  Status BucketMembersOf(const std::vector<BucketRef>& probes,
+                         std::vector<std::vector<uint64_t>>* out) const;
+  // The signatures of `keys` in one MultiGet: *sigs gets keys.size() x k values (zeros
+  // for a missing key), (*found)[i] says whether keys[i] has one.
+  Status GetSignatures(const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs,
+                       std::vector<char>* found) const;
   // Calls fn for every stored document (key order) / signature (key order).
   Status ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const;
   Status ForEachSignature(const std::function<Status(uint64_t, std::vector<uint32_t>)>& fn) const;
@@ -143,12 +218,21 @@ class IndexStore {
   // Every stored edge touching `key`.
   StatusOr<std::vector<Edge>> EdgesOf(uint64_t key) const;
 
+  // The raw database and families, for benchmarks that compare against RocksDB
+  // itself with the same options. Not for data-path code.
+  enum class Family { kPostings, kSignatures, kDocs };
+  rocksdb::DB* raw_db() const { return db_.get(); }
+  rocksdb::ColumnFamilyHandle* raw_family(Family f) const {
+    return f == Family::kPostings ? postings_ : f == Family::kSignatures ? signatures_ : docs_;
+  }
+
   // Value encodings (exposed for tests and tools).
   static std::string EncodeDocument(const DocumentMeta& doc);
   static StatusOr<DocumentMeta> DecodeDocument(uint64_t key, std::string_view value);
 
  private:
   friend class WriteBatchBuilder;
+  friend class BulkIndexWriter;
   IndexStore() = default;
   static StatusOr<std::unique_ptr<IndexStore>> OpenInternal(const std::string& path, bool create,
                                                             const StoreOptions& options);

@@ -5,6 +5,11 @@
 #include <gtest/gtest.h>
 #include <rocksdb/db.h>
 
+#include <algorithm>
+#include <tuple>
+
+#include "index/candidates.h"
+
 #include "tests/test_util.h"
 
 namespace shingleton {
@@ -154,6 +159,86 @@ TEST(IndexStoreTest, SchemeTextRoundTripsAndRejectsGarbage) {
   EXPECT_EQ(SketchScheme::Parse("shingleton-scheme/9 norm=1").status().code(), Status::Code::kMismatch);
   EXPECT_FALSE(SketchScheme::Parse("shingleton-scheme/1 norm=1 unicode=15 shingle=word:x seed=0x1 "
                                    "sig=minhash-ms32:8 bands=2x4").ok());
+}
+
+}  // namespace
+}  // namespace shingleton
+
+namespace shingleton {
+namespace {
+
+// Every bucket of every band, as ForEachBucket reports it.
+std::vector<std::tuple<int, uint64_t, std::vector<uint64_t>>> AllBuckets(const IndexStore& store) {
+  std::vector<std::tuple<int, uint64_t, std::vector<uint64_t>>> out;
+  for (int band = 0; band < store.scheme().bands; ++band) {
+    EXPECT_TRUE(store.ForEachBucket(band, 1, [&](int b, uint64_t bucket, const std::vector<uint64_t>& m) {
+      out.emplace_back(b, bucket, m);
+      return Status::Ok();
+    }).ok());
+  }
+  return out;
+}
+
+// The bulk path (sorted runs as ingested SST files, several overlapping runs) and the
+// WriteBatch path must store the same postings and signatures: checked against each
+// other, and the batched reads (BucketMembersOf, GetSignatures, QueryIndex) against
+// the one-at-a-time reads and a brute-force similarity by definition.
+TEST(IndexStoreTest, BulkRunsEqualWriteBatchesAndBatchedReadsEqualPointReads) {
+  TempDir dir;
+  const SketchScheme scheme = SmallScheme();
+  StoreOptions bulk_options;
+  bulk_options.bulk_load = true;
+  auto bulk_store = IndexStore::Create(dir.File("bulk"), scheme, bulk_options);
+  auto batch_store = IndexStore::Create(dir.File("batch"), scheme);
+  ASSERT_TRUE(bulk_store.ok() && batch_store.ok());
+  {
+    BulkIndexWriter bulk(bulk_store->get(), 4096);  // tiny runs: many overlapping files
+    WriteBatchBuilder batch(batch_store->get());
+    for (uint32_t i = 0; i < 600; ++i) {
+      DocumentMeta d = Doc("d" + std::to_string(i), i);
+      uint32_t sig[8];
+      for (uint32_t j = 0; j < 8; ++j) sig[j] = (i / 3) * 10 + (j < 7 ? j : i % 3);  // families of 3
+      const uint64_t buckets[2] = {i / 3, 1000 + i % 7};
+      ASSERT_TRUE(bulk.AddMeta(d).ok());
+      ASSERT_TRUE(bulk.AddSignature(d.key, sig, 8).ok());
+      batch.AddDocument(d, sig, 8, buckets);
+      for (int b = 0; b < 2; ++b) ASSERT_TRUE(bulk.AddPosting(b, buckets[b], d.key).ok());
+    }
+    ASSERT_TRUE(bulk.Finish().ok());
+    EXPECT_GT(bulk.files(), 4u);
+    ASSERT_TRUE(batch_store.value()->Write(&batch).ok());
+  }
+  const IndexStore& a = *bulk_store.value();
+  const IndexStore& b = *batch_store.value();
+  EXPECT_EQ(AllBuckets(a), AllBuckets(b));
+  std::vector<BucketRef> probes = {{1, 1003}, {0, 5}, {0, 99999}, {1, 1000}};
+  std::vector<std::vector<uint64_t>> members;
+  ASSERT_TRUE(a.BucketMembersOf(probes, &members).ok());
+  for (size_t i = 0; i < probes.size(); ++i) {
+    EXPECT_EQ(members[i], b.BucketMembers(probes[i].band, probes[i].bucket).value());
+  }
+  EXPECT_TRUE(members[2].empty());
+  const std::vector<uint64_t> keys = {DocKey("d7"), DocKey("nobody"), DocKey("d599")};
+  std::vector<uint32_t> sigs;
+  std::vector<char> found;
+  ASSERT_TRUE(a.GetSignatures(keys, &sigs, &found).ok());
+  EXPECT_EQ(found, (std::vector<char>{1, 0, 1}));
+  EXPECT_EQ(std::vector<uint32_t>(sigs.begin(), sigs.begin() + 8), b.GetSignature(DocKey("d7")).value());
+  EXPECT_EQ(a.GetDocument(DocKey("d42")).value().id, "d42");
+
+  // Query with d9's own signature and buckets: its family (d9, d10, d11) shares bucket 3
+  // of band 0; by definition the estimate is the share of equal values (7/8, or 1 for itself).
+  const uint32_t* q = nullptr;
+  std::vector<uint32_t> qsig = b.GetSignature(DocKey("d9")).value();
+  q = qsig.data();
+  const uint64_t qb[2] = {3, 1000 + 9 % 7};
+  std::vector<std::vector<QueryHit>> hits;
+  ASSERT_TRUE(QueryIndex(a, q, qb, 1, 0.8, &hits).ok());
+  std::vector<uint64_t> got;
+  for (const QueryHit& h : hits[0]) got.push_back(h.key);
+  std::vector<uint64_t> want = {DocKey("d9"), DocKey("d10"), DocKey("d11")};
+  std::sort(want.begin(), want.end());
+  EXPECT_EQ(got, want);
 }
 
 }  // namespace
