@@ -92,7 +92,7 @@ StatusOr<std::string> ViaCoordinator(InspectFlags& f, const ReportStyle& style) 
     v1::QueryResponse resp;
     SHINGLETON_RETURN_IF_ERROR(
         rpc::FromGrpcStatus(stub->Query(&ctx, req, &resp), "query"));
-    std::vector<QueryHit> hits;
+    std::vector<TextQueryHit> hits;
     for (const auto& cand : resp.candidates()) {
       hits.push_back({cand.id(), cand.url(), cand.similarity(), 0, ""});
     }

@@ -685,22 +685,66 @@ StatusOr<std::vector<uint32_t>> IndexStore::GetSignature(uint64_t key) const {
   return sig;
 }
 
-StatusOr<Decision> IndexStore::GetDecision(uint64_t key) const {
-  std::string v;
-  SHINGLETON_RETURN_IF_ERROR(FromRocks(db_->Get(rocksdb::ReadOptions(), decisions_, Key64(key), &v),
-                                       "reading decision"));
+namespace {
+
+StatusOr<Decision> DecodeDecision(uint64_t key, std::string_view v) {
   if (v.size() < 21) return Status::Corruption("decision record too short");
   Decision d;
   d.key = key;
   d.cluster = GetBigEndian64(v.data());
   d.kept_key = GetBigEndian64(v.data() + 8);
-  Decoder dec(std::string_view(v).substr(16));
+  Decoder dec(v.substr(16));
   uint32_t bits = dec.Fixed32();
   std::memcpy(&d.similarity, &bits, 4);
   d.cluster_size = static_cast<uint32_t>(dec.Varint());
   d.for_reference = (dec.Varint() & 1) != 0;
   if (!dec.ok()) return Status::Corruption("bad decision record");
   return d;
+}
+
+}  // namespace
+
+StatusOr<Decision> IndexStore::GetDecision(uint64_t key) const {
+  std::string v;
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(db_->Get(rocksdb::ReadOptions(), decisions_, Key64(key), &v),
+                                       "reading decision"));
+  return DecodeDecision(key, v);
+}
+
+Status IndexStore::ForEachDocumentRecord(const DocumentRecordFn& fn) const {
+  rocksdb::ReadOptions ro;
+  ro.fill_cache = false;
+  ro.readahead_size = 2 << 20;
+  std::unique_ptr<rocksdb::Iterator> sig_it(db_->NewIterator(ro, signatures_));
+  std::unique_ptr<rocksdb::Iterator> dec_it(db_->NewIterator(ro, decisions_));
+  sig_it->SeekToFirst();
+  dec_it->SeekToFirst();
+  const size_t k = static_cast<size_t>(scheme_.num_hashes);
+  std::vector<uint32_t> sig;
+  // Advances `it` to the first key >= `key`; true if it is exactly `key`.
+  auto seek_to = [](rocksdb::Iterator* it, uint64_t key) {
+    while (it->Valid() && it->key().size() == 8 && GetBigEndian64(it->key().data()) < key) it->Next();
+    return it->Valid() && it->key().size() == 8 && GetBigEndian64(it->key().data()) == key;
+  };
+  Status s = ForEachDocument([&](DocumentMeta doc) -> Status {
+    sig.clear();
+    if (seek_to(sig_it.get(), doc.key)) {
+      if (sig_it->value().size() != 4 * k) return Status::Corruption("signature record of bad size in " + path_);
+      Decoder d(std::string_view(sig_it->value().data(), sig_it->value().size()));
+      sig.resize(k);
+      for (auto& x : sig) x = d.Fixed32();
+    }
+    if (seek_to(dec_it.get(), doc.key)) {
+      SHINGLETON_ASSIGN_OR_RETURN(
+          Decision decision,
+          DecodeDecision(doc.key, std::string_view(dec_it->value().data(), dec_it->value().size())));
+      return fn(doc, &decision, sig);
+    }
+    return fn(doc, nullptr, sig);
+  });
+  SHINGLETON_RETURN_IF_ERROR(s);
+  SHINGLETON_RETURN_IF_ERROR(FromRocks(sig_it->status(), "scanning signatures of " + path_));
+  return FromRocks(dec_it->status(), "scanning decisions of " + path_);
 }
 
 StatusOr<std::vector<Edge>> IndexStore::EdgesOf(uint64_t key) const {

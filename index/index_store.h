@@ -211,6 +211,12 @@ class IndexStore {
   // Calls fn for every stored document (key order) / signature (key order).
   Status ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const;
   Status ForEachSignature(const std::function<Status(uint64_t, std::vector<uint32_t>)>& fn) const;
+  // Calls fn for every document in key order with its decision (nullptr when it has
+  // none) and its signature (empty when it has none): one sequential scan of each of
+  // the three families, merged by key, instead of two point lookups per document.
+  using DocumentRecordFn =
+      std::function<Status(const DocumentMeta&, const Decision*, const std::vector<uint32_t>&)>;
+  Status ForEachDocumentRecord(const DocumentRecordFn& fn) const;
 
   StatusOr<DocumentMeta> GetDocument(uint64_t key) const;
   StatusOr<std::vector<uint32_t>> GetSignature(uint64_t key) const;

@@ -154,15 +154,16 @@ std::string Inspector::DecisionWord(uint64_t key) const {
 
 Status Inspector::ScanDecisions(const DecisionFn& fn,
                                 std::map<uint64_t, ClusterTally>* clusters) const {
-  return store_->ForEachDocument([&](DocumentMeta doc) -> Status {
-    auto d = store_->GetDecision(doc.key);
-    if (!d.ok()) return d.status().WithContext("decision of " + doc.id);
+  // One key-order scan of documents and decisions.
+  return store_->ForEachDocumentRecord([&](const DocumentMeta& doc, const Decision* d,
+                                           const std::vector<uint32_t>&) -> Status {
+    if (d == nullptr) return Status::NotFound("decision of " + doc.id + ": the index holds no decision for it");
     if (!d->for_reference) {
       ClusterTally& c = (*clusters)[d->cluster];
       ++c.size;
       c.spread = std::min<double>(c.spread, d->similarity);
     }
-    return fn ? fn(doc, d.value()) : Status::Ok();
+    return fn ? fn(doc, *d) : Status::Ok();
   });
 }
 
@@ -404,7 +405,7 @@ StatusOr<Explanation> Inspector::Explain(const std::string& id,
   return x;
 }
 
-StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text,
+StatusOr<std::vector<TextQueryHit>> Inspector::Query(std::string_view text,
                                                  double min_similarity,
                                                  size_t limit) const {
   const SketchScheme& scheme = store_->scheme();
@@ -432,10 +433,10 @@ StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text,
         found.emplace(e.a == key ? e.b : e.a, std::make_pair(s, bands));
     }
   }
-  std::vector<QueryHit> hits;
+  std::vector<TextQueryHit> hits;
   for (const auto& [key, value] : found) {
     SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta doc, store_->GetDocument(key));
-    QueryHit h;
+    TextQueryHit h;
     h.id = doc.id;
     h.url = doc.url;
     h.similarity = value.first;
@@ -443,7 +444,7 @@ StatusOr<std::vector<QueryHit>> Inspector::Query(std::string_view text,
     h.decision = DecisionWord(key);
     hits.push_back(std::move(h));
   }
-  std::sort(hits.begin(), hits.end(), [](const QueryHit& a, const QueryHit& b) {
+  std::sort(hits.begin(), hits.end(), [](const TextQueryHit& a, const TextQueryHit& b) {
     return a.similarity != b.similarity ? a.similarity > b.similarity : a.id < b.id;
   });
   if (limit > 0 && hits.size() > limit) hits.resize(limit);

@@ -120,7 +120,7 @@ struct Explanation {
   double threshold = 0;
 };
 
-struct QueryHit {
+struct TextQueryHit {
   std::string id, url;
   double similarity = 0;
   int bands = 0;         // bands whose bucket the text shares with the document
@@ -150,7 +150,7 @@ class Inspector {
   // At most `max_candidates` rejected candidates are listed (all edges always are).
   StatusOr<Explanation> Explain(const std::string& id, size_t max_candidates = 20) const;
   // min_similarity 0 means the job's threshold. REQUIRES: text is valid UTF-8.
-  StatusOr<std::vector<QueryHit>> Query(std::string_view text, double min_similarity,
+  StatusOr<std::vector<TextQueryHit>> Query(std::string_view text, double min_similarity,
                                         size_t limit) const;
   StatusOr<DiffReport> Diff(const std::string& id_a, const std::string& id_b) const;
 

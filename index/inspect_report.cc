@@ -413,18 +413,18 @@ std::string ExplanationJson(const Explanation& x) {
   return w.Take();
 }
 
-std::string QueryTable(const std::vector<QueryHit>& hits, const ReportStyle& style) {
+std::string QueryTable(const std::vector<TextQueryHit>& hits, const ReportStyle& style) {
   if (hits.empty()) return "no near-duplicate in the index\n";
   TextTable t({"id", "est. J", "bands", "decision", "url"}, "lrrll");
-  for (const QueryHit& h : hits)
+  for (const TextQueryHit& h : hits)
     t.AddRow({h.id, Fixed(h.similarity), Num(h.bands), h.decision, h.url});
   return t.Render(style);
 }
 
-std::string QueryJson(const std::vector<QueryHit>& hits) {
+std::string QueryJson(const std::vector<TextQueryHit>& hits) {
   JsonWriter w;
   w.BeginArray();
-  for (const QueryHit& h : hits) {
+  for (const TextQueryHit& h : hits) {
     w.BeginObject();
     w.Field("id", h.id);
     w.Field("url", h.url);
@@ -548,7 +548,7 @@ StatusOr<std::string> RunInspection(const Inspector& inspector, const InspectCom
   }
   if (c.command == "query") {
     SHINGLETON_RETURN_IF_ERROR(ValidateUtf8(c.text));
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<QueryHit> hits,
+    SHINGLETON_ASSIGN_OR_RETURN(std::vector<TextQueryHit> hits,
                                 inspector.Query(c.text, c.min_similarity, c.limit));
     return json ? QueryJson(hits) + "\n" : QueryTable(hits, style);
   }

@@ -48,8 +48,8 @@ std::string ClusterTable(const ClusterReport& r, const ReportStyle& style);
 std::string ClusterJson(const ClusterReport& r);
 std::string ExplanationTable(const Explanation& x, const ReportStyle& style);
 std::string ExplanationJson(const Explanation& x);
-std::string QueryTable(const std::vector<QueryHit>& hits, const ReportStyle& style);
-std::string QueryJson(const std::vector<QueryHit>& hits);
+std::string QueryTable(const std::vector<TextQueryHit>& hits, const ReportStyle& style);
+std::string QueryJson(const std::vector<TextQueryHit>& hits);
 // Shared runs are [bracketed] without colour, coloured with it.
 std::string DiffText(const DiffReport& r, const ReportStyle& style);
 std::string DiffJson(const DiffReport& r);

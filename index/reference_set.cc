@@ -155,12 +155,14 @@ StatusOr<GenerationRecord> FreezeGeneration(const FreezeOptions& o) {
     SHINGLETON_ASSIGN_OR_RETURN(auto gen, IndexStore::Create(building + "/db", scheme, bulk));
     WriteBatchBuilder batch(gen.get());
     std::vector<uint64_t> buckets(scheme.bands);
-    Status s = job->ForEachDocument([&](DocumentMeta doc) -> Status {
+    // One key-order scan of documents, decisions and signatures (no point lookups).
+    Status s = job->ForEachDocumentRecord([&](const DocumentMeta& doc, const Decision* d,
+                                              const std::vector<uint32_t>& sig) -> Status {
       if (!o.all_documents) {
-        SHINGLETON_ASSIGN_OR_RETURN(Decision d, job->GetDecision(doc.key));
-        if (!d.kept()) return Status::Ok();
+        if (d == nullptr) return Status::Corruption("document " + doc.id + " has no decision in " + o.index_path);
+        if (!d->kept()) return Status::Ok();
       }
-      SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> sig, job->GetSignature(doc.key));
+      if (sig.empty()) return Status::Corruption("document " + doc.id + " has no signature in " + o.index_path);
       for (int b = 0; b < scheme.bands; ++b) buckets[b] = BandBucket(sig.data(), b, scheme.rows, scheme.seed);
       batch.AddDocument(doc, sig.data(), scheme.num_hashes, buckets.data());
       batch.AddContent(doc);

@@ -296,7 +296,7 @@ TEST_F(InspectTest, QueryFindsThePlantedNearDuplicates) {
     auto hits = plain_->Query(corpus.texts[i], 0, 0);
     ASSERT_TRUE(hits.ok()) << hits.status().ToString();
     std::map<std::string, double> found;
-    for (const QueryHit& h : *hits) found[h.id] = h.similarity;
+    for (const TextQueryHit& h : *hits) found[h.id] = h.similarity;
     EXPECT_DOUBLE_EQ(found[corpus.ids[i]], 1.0);
     for (const auto& [id, s] : found)
       EXPECT_EQ(truth.at(id).family, t.family) << id << " for " << corpus.ids[i];
