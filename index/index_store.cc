@@ -711,7 +711,7 @@ StatusOr<Decision> IndexStore::GetDecision(uint64_t key) const {
   return DecodeDecision(key, v);
 }
 
-Status IndexStore::ForEachDocumentRecord(const DocumentRecordFn& fn) const {
+Status IndexStore::ForEachDocumentRecord(const DocumentRecordFn& fn, bool with_signatures) const {
   rocksdb::ReadOptions ro;
   ro.fill_cache = false;
   ro.readahead_size = 2 << 20;
@@ -728,7 +728,7 @@ Status IndexStore::ForEachDocumentRecord(const DocumentRecordFn& fn) const {
   };
   Status s = ForEachDocument([&](DocumentMeta doc) -> Status {
     sig.clear();
-    if (seek_to(sig_it.get(), doc.key)) {
+    if (with_signatures && seek_to(sig_it.get(), doc.key)) {
       if (sig_it->value().size() != 4 * k) return Status::Corruption("signature record of bad size in " + path_);
       Decoder d(std::string_view(sig_it->value().data(), sig_it->value().size()));
       sig.resize(k);

@@ -212,11 +212,11 @@ class IndexStore {
   Status ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const;
   Status ForEachSignature(const std::function<Status(uint64_t, std::vector<uint32_t>)>& fn) const;
   // Calls fn for every document in key order with its decision (nullptr when it has
-  // none) and its signature (empty when it has none): one sequential scan of each of
-  // the three families, merged by key, instead of two point lookups per document.
+  // none) and its signature (empty when it has none, or when !with_signatures): one
+  // sequential scan of each family, merged by key, instead of point lookups.
   using DocumentRecordFn =
       std::function<Status(const DocumentMeta&, const Decision*, const std::vector<uint32_t>&)>;
-  Status ForEachDocumentRecord(const DocumentRecordFn& fn) const;
+  Status ForEachDocumentRecord(const DocumentRecordFn& fn, bool with_signatures = true) const;
 
   StatusOr<DocumentMeta> GetDocument(uint64_t key) const;
   StatusOr<std::vector<uint32_t>> GetSignature(uint64_t key) const;

@@ -164,7 +164,7 @@ Status Inspector::ScanDecisions(const DecisionFn& fn,
       c.spread = std::min<double>(c.spread, d->similarity);
     }
     return fn ? fn(doc, *d) : Status::Ok();
-  });
+  }, /*with_signatures=*/false);
 }
 
 StatusOr<StatsReport> Inspector::Stats() const {

@@ -20,15 +20,15 @@ constexpr char kPartFormat[] = "shingleton-generation-part/1";
 std::string PartJson(const PartRecord& r) {
   JsonWriter w;
   w.BeginObject();
-  w.Key("format"); w.String(kPartFormat);
-  w.Key("generation"); w.String(r.generation);
-  w.Key("generation_checksum"); w.String(r.generation_checksum);
-  w.Key("scheme"); w.String(r.scheme);
-  w.Key("part"); w.Uint(r.part);
-  w.Key("parts"); w.Uint(r.parts);
-  w.Key("postings"); w.Uint(r.postings);
-  w.Key("signatures"); w.Uint(r.signatures);
-  w.Key("checksum"); w.String(r.checksum);
+  w.Field("format", kPartFormat);
+  w.Field("generation", r.generation);
+  w.Field("generation_checksum", r.generation_checksum);
+  w.Field("scheme", r.scheme);
+  w.FieldUint("part", r.part);
+  w.FieldUint("parts", r.parts);
+  w.FieldUint("postings", r.postings);
+  w.FieldUint("signatures", r.signatures);
+  w.Field("checksum", r.checksum);
   w.EndObject();
   return w.Take() + "\n";
 }
