@@ -1,60 +1,106 @@
 #include "index/bucket_scan.h"
 
-#include <oneapi/tbb/global_control.h>
-#include <oneapi/tbb/parallel_for.h>
-#include <oneapi/tbb/task_arena.h>
-
 #include <algorithm>
 #include <atomic>
-#include <functional>
+#include <iterator>
+
+#include "index/parallel.h"
 
 namespace shingleton {
 
-namespace {
-
-// Runs fn(band) for every band on `threads` threads; returns the first error by band.
-Status ForEachBandParallel(int bands, int threads, const std::function<Status(int)>& fn) {
-  std::vector<Status> statuses(bands);
-  threads = std::max(threads, 1);
-  // Allows more threads than cores when asked for (TBB would otherwise cap and warn).
-  tbb::global_control allow(tbb::global_control::max_allowed_parallelism, std::max(threads, 2));
-  tbb::task_arena arena(threads);
-  arena.execute([&] { tbb::parallel_for(0, bands, [&](int band) { statuses[band] = fn(band); }); });
-  for (const Status& s : statuses) SHINGLETON_RETURN_IF_ERROR(s);
-  return Status::Ok();
+StatusOr<BandPostings> ReadBandPostings(const IndexStore& store, int band) {
+  BandPostings postings;
+  SHINGLETON_RETURN_IF_ERROR(
+      store.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& docs) {
+        for (uint64_t d : docs) postings.emplace_back(bucket, d);
+        return Status::Ok();
+      }));
+  return postings;
 }
 
-}  // namespace
-
-Status ForEachKeyInSharedBuckets(const IndexStore& store, int threads,
-                                 const std::function<void(uint64_t key)>& mark) {
-  return ForEachBandParallel(store.scheme().bands, threads, [&](int band) {
-    return store.ForEachBucket(band, 2, [&](int, uint64_t, const std::vector<uint64_t>& members) {
-      for (uint64_t key : members) mark(key);
-      return Status::Ok();
-    });
-  });
+size_t SharedBuckets::buckets() const {
+  size_t n = 0;
+  for (const auto& s : starts) n += s.empty() ? 0 : s.size() - 1;
+  return n;
 }
 
-StatusOr<EdgeScan> VerifyAllBuckets(const IndexStore& store, const VerifyOptions& options,
-                                    const SignatureLookup& lookup, int threads) {
+std::vector<uint64_t> SharedBuckets::Keys() const {
+  // Sorted per band, then pairwise unions (repeats dropped at every step).
+  std::vector<std::vector<uint64_t>> level;
+  for (const auto& m : members) {
+    level.push_back(m);
+    std::sort(level.back().begin(), level.back().end());  // distinct within a band
+  }
+  while (level.size() > 1) {
+    std::vector<std::vector<uint64_t>> next;
+    for (size_t i = 0; i < level.size(); i += 2) {
+      if (i + 1 == level.size()) {
+        next.push_back(std::move(level[i]));
+        break;
+      }
+      next.emplace_back();
+      next.back().reserve(level[i].size() + level[i + 1].size());
+      std::set_union(level[i].begin(), level[i].end(), level[i + 1].begin(), level[i + 1].end(),
+                     std::back_inserter(next.back()));
+    }
+    level = std::move(next);
+  }
+  return level.empty() ? std::vector<uint64_t>() : std::move(level[0]);
+}
+
+StatusOr<SharedBuckets> ScanBands(const IndexStore& store, int threads, const BandVisitor& visit) {
   const int bands = store.scheme().bands;
-  BucketVerifier verifier(options, store.scheme().num_hashes, lookup);
+  SharedBuckets shared;
+  shared.members.resize(bands);
+  shared.starts.resize(bands);
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(bands, threads, [&](size_t b) -> Status {
+    SHINGLETON_ASSIGN_OR_RETURN(BandPostings postings, ReadBandPostings(store, static_cast<int>(b)));
+    auto& members = shared.members[b];
+    auto& starts = shared.starts[b];
+    for (size_t i = 0; i < postings.size();) {
+      size_t j = i + 1;
+      while (j < postings.size() && postings[j].first == postings[i].first) ++j;
+      if (j - i >= 2) {
+        if (starts.empty()) starts.push_back(0);
+        for (size_t x = i; x < j; ++x) members.push_back(postings[x].second);
+        starts.push_back(static_cast<uint32_t>(members.size()));
+      }
+      i = j;
+    }
+    return visit ? visit(static_cast<int>(b), postings) : Status::Ok();
+  }));
+  return shared;
+}
+
+StatusOr<EdgeScan> VerifySharedBuckets(const SharedBuckets& shared, const VerifyOptions& options, int num_hashes,
+                                       const SignatureLookup& lookup, int threads) {
+  const size_t bands = shared.members.size();
+  BucketVerifier verifier(options, num_hashes, lookup);
   std::vector<std::vector<Edge>> per_band(bands);
-  std::atomic<uint64_t> comparisons{0}, buckets{0};
-  SHINGLETON_RETURN_IF_ERROR(ForEachBandParallel(bands, threads, [&](int band) {
-    return store.ForEachBucket(band, 2, [&](int b, uint64_t, const std::vector<uint64_t>& members) {
-      ++buckets;
-      comparisons += verifier.Verify(b, members, &per_band[b]);
-      return Status::Ok();
-    });
+  std::atomic<uint64_t> comparisons{0};
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(bands, threads, [&](size_t b) -> Status {
+    const auto& starts = shared.starts[b];
+    std::vector<uint64_t> bucket;
+    uint64_t n = 0;
+    for (size_t j = 0; j + 1 < starts.size(); ++j) {
+      bucket.assign(shared.members[b].begin() + starts[j], shared.members[b].begin() + starts[j + 1]);
+      n += verifier.Verify(static_cast<int>(b), bucket, &per_band[b]);
+    }
+    comparisons += n;
+    return Status::Ok();
   }));
   EdgeScan out;
   for (auto& v : per_band) out.edges.insert(out.edges.end(), v.begin(), v.end());
   DeduplicateEdges(&out.edges);
-  out.buckets_checked = buckets.load();
+  out.buckets_checked = shared.buckets();
   out.comparisons = comparisons.load();
   return out;
+}
+
+StatusOr<EdgeScan> VerifyAllBuckets(const IndexStore& store, const VerifyOptions& options,
+                                    const SignatureLookup& lookup, int threads) {
+  SHINGLETON_ASSIGN_OR_RETURN(SharedBuckets shared, ScanBands(store, threads, nullptr));
+  return VerifySharedBuckets(shared, options, store.scheme().num_hashes, lookup, threads);
 }
 
 }  // namespace shingleton

@@ -12,15 +12,13 @@
 #include "index/index_store.h"
 #include "index/json_writer.h"
 #include "index/manifest.h"
+#include "index/reference_merge.h"
 #include "index/reference_resolution.h"
 #include "index/url_normalizer.h"
 
-#include <oneapi/tbb/global_control.h>
-#include <oneapi/tbb/parallel_for.h>
-#include <oneapi/tbb/task_arena.h>
-
 #include <algorithm>
-#include <atomic>
+#include <iterator>
+#include <memory>
 #include <unordered_map>
 
 namespace shingleton {
@@ -160,10 +158,11 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
 }
 
 // Holds in the table the signatures that the rest of the job reads: of every
-// document in a shared bucket and of both ends of every exact-duplicate edge; of
-// every document when deduplicating against references (each is matched).
-Status LoadSignatures(const IndexStore& store, bool all, const std::vector<Edge>& exact_edges, int threads,
-                      DocTable* table) {
+// document in a shared bucket (`shared_keys`, sorted) and of both ends of every
+// exact-duplicate edge; of every document when `all` (point lookups in references
+// look each one up).
+Status LoadSignatures(const IndexStore& store, bool all, const std::vector<uint64_t>& shared_keys,
+                      const std::vector<Edge>& exact_edges, DocTable* table) {
   const int k = table->num_hashes();
   if (all) {
     return store.ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) -> Status {
@@ -172,21 +171,17 @@ Status LoadSignatures(const IndexStore& store, bool all, const std::vector<Edge>
       return Status::Ok();
     });
   }
-  std::vector<std::atomic<uint8_t>> wanted(table->size());
-  auto mark = [&](uint64_t key) {
-    const int64_t i = table->IndexOf(key);
-    if (i >= 0) wanted[static_cast<size_t>(i)].store(1, std::memory_order_relaxed);
-  };
-  SHINGLETON_RETURN_IF_ERROR(ForEachKeyInSharedBuckets(store, threads, mark));
+  std::vector<uint64_t> ends;
   for (const Edge& e : exact_edges) {
-    mark(e.a);
-    mark(e.b);
+    ends.push_back(e.a);
+    ends.push_back(e.b);
   }
+  std::sort(ends.begin(), ends.end());
   std::vector<uint64_t> keys;
-  for (size_t i = 0; i < table->size(); ++i) {
-    if (wanted[i].load(std::memory_order_relaxed)) keys.push_back(table->key(i));
-  }
-  std::sort(keys.begin(), keys.end());
+  keys.reserve(shared_keys.size() + ends.size());
+  std::set_union(shared_keys.begin(), shared_keys.end(), ends.begin(), ends.end(), std::back_inserter(keys));
+  keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
+  table->ReserveSignatures(keys.size());
   constexpr size_t kChunk = 4096;
   std::vector<uint64_t> chunk;
   std::vector<uint32_t> sigs;
@@ -195,32 +190,53 @@ Status LoadSignatures(const IndexStore& store, bool all, const std::vector<Edge>
     chunk.assign(keys.begin() + from, keys.begin() + std::min(keys.size(), from + kChunk));
     SHINGLETON_RETURN_IF_ERROR(store.GetSignatures(chunk, &sigs, &found));
     for (size_t j = 0; j < chunk.size(); ++j) {
-      if (!found[j]) return Status::Corruption("no signature for document key " + std::to_string(chunk[j]));
-      table->SetSignature(static_cast<size_t>(table->IndexOf(chunk[j])), &sigs[j * k]);
+      const int64_t i = table->IndexOf(chunk[j]);
+      if (!found[j] || i < 0) return Status::Corruption("no document or signature for key " + std::to_string(chunk[j]));
+      table->SetSignature(static_cast<size_t>(i), &sigs[j * k]);
     }
   }
   return Status::Ok();
 }
 
-StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const IndexStore& store,
-                                      const DocTable& table, DedupSummary* summary) {
+StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const SharedBuckets& shared, const DocTable& table,
+                                      DedupSummary* summary) {
   VerifyOptions vo;
   vo.threshold = o.threshold;
   vo.all_pairs_limit = o.all_pairs_limit;
   vo.max_leaders = o.max_leaders;
   SHINGLETON_ASSIGN_OR_RETURN(
       EdgeScan scan,
-      VerifyAllBuckets(store, vo, [&table](uint64_t key) { return table.SignatureOf(key); },
-                       ResolveThreads(o.ingest.threads)));
+      VerifySharedBuckets(shared, vo, table.num_hashes(), [&table](uint64_t key) { return table.SignatureOf(key); },
+                          ResolveThreads(o.ingest.threads)));
   summary->comparisons = scan.comparisons;
   summary->buckets_checked = scan.buckets_checked;
   summary->edges = scan.edges.size();
   return std::move(scan.edges);
 }
 
+// The best reference match of every document. With the merge, `mergers` (one per
+// generation) were fed every band of the job's postings during the bucket scan.
+StatusOr<std::vector<ReferenceMatch>> MatchReferences(const DedupOptions& o, const ReferenceSet& refs,
+                                                      const DocTable& table, const IngestOutput& ingested,
+                                                      std::vector<std::unique_ptr<ReferenceMerger>>* mergers) {
+  ReferenceMatchOptions mo{o.threshold, o.url_revisits, ResolveThreads(o.ingest.threads), o.reference_lookup};
+  ReferenceCandidates candidates(table.size());
+  if (o.reference_lookup == ReferenceLookup::kPoint) {
+    SHINGLETON_ASSIGN_OR_RETURN(candidates, LookUpNearCandidates(refs, table, o.threshold, mo.threads));
+  }
+  for (size_t g = 0; g < mergers->size(); ++g) {
+    SHINGLETON_ASSIGN_OR_RETURN(std::vector<ReferenceHit> hits, (*mergers)[g]->Finish(mo.threads));
+    SHINGLETON_RETURN_IF_ERROR(AddNearHits(table, static_cast<int>(g), hits, &candidates));
+    (*mergers)[g].reset();
+  }
+  ShareWithCopies(table, ingested.exact_edges, &candidates);
+  SHINGLETON_RETURN_IF_ERROR(AddExactCandidates(refs, table, ingested.normalized_urls, mo, &candidates));
+  return ResolveReferences(refs, candidates, mo.threads);
+}
+
 Status PersistDecisions(IndexStore* store, const std::vector<Decision>& decisions,
                         const std::vector<Edge>& edges) {
-  BulkIndexWriter bulk(store);
+  BulkIndexWriter bulk(store, 32 << 20);  // the job's peak memory is here: smaller runs
   for (const Decision& d : decisions) SHINGLETON_RETURN_IF_ERROR(bulk.AddDecision(d));
   for (const Edge& e : edges) SHINGLETON_RETURN_IF_ERROR(bulk.AddEdge(e));
   return bulk.Finish();
@@ -347,19 +363,38 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
 
   report("candidates");
   Clock::time_point t = Clock::now();
-  SHINGLETON_RETURN_IF_ERROR(LoadSignatures(*store, refs != nullptr, ingested.exact_edges,
-                                            ResolveThreads(o.ingest.threads), &table));
-  SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, *store, table, &summary));
+  // One scan of the job's postings: its shared buckets for verification and, with
+  // the reference merge, every band merged with every generation meanwhile.
+  const int threads = ResolveThreads(o.ingest.threads);
+  std::vector<std::unique_ptr<ReferenceMerger>> mergers;
+  if (refs && o.reference_lookup == ReferenceLookup::kMerge) {
+    for (size_t g = 0; g < refs->size(); ++g) {
+      mergers.push_back(std::make_unique<ReferenceMerger>(refs->store(g), *store, o.threshold));
+    }
+  }
+  BandVisitor visit;
+  if (!mergers.empty()) {
+    visit = [&mergers](int band, const BandPostings& postings) -> Status {
+      for (auto& m : mergers) SHINGLETON_RETURN_IF_ERROR(m->AddBand(band, postings));
+      return Status::Ok();
+    };
+  }
+  SHINGLETON_ASSIGN_OR_RETURN(SharedBuckets shared, ScanBands(*store, threads, visit));
+  // Point lookups in references look up every document's signature; otherwise
+  // only the verified ones are held.
+  const bool all_signatures = refs != nullptr && o.reference_lookup == ReferenceLookup::kPoint;
+  SHINGLETON_RETURN_IF_ERROR(LoadSignatures(*store, all_signatures, shared.Keys(), ingested.exact_edges, &table));
+  SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, shared, table, &summary));
+  shared = SharedBuckets();
   edges.insert(edges.end(), ingested.exact_edges.begin(), ingested.exact_edges.end());
   DeduplicateEdges(&edges);
   std::vector<ReferenceMatch> matches;
   if (refs) {
     report("references");
-    SHINGLETON_ASSIGN_OR_RETURN(
-        matches, MatchReferences(*refs, table, ingested.normalized_urls,
-                                 {o.threshold, o.url_revisits, ResolveThreads(o.ingest.threads),
-                                  o.reference_lookup}));
+    const Clock::time_point r = Clock::now();
+    SHINGLETON_ASSIGN_OR_RETURN(matches, MatchReferences(o, *refs, table, ingested, &mergers));
     DropEdgesOfMatched(table, matches, &edges);
+    summary.seconds_references = SecondsSince(r);
   }
   summary.seconds_candidates = SecondsSince(t);
 
@@ -370,6 +405,7 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
     summary.chain_guard =
         GuardChains(table, o.policy, o.chain_bound > 0 ? o.chain_bound : o.threshold, &decisions);
   }
+  table.ReleaseSignatures();  // verified and clustered: the rest needs no signature
   std::vector<ManifestRow> rows = ManifestRows(table, decisions);
   if (refs) ApplyReferenceMatches(*refs, matches, &decisions, &rows);
   CountDecisions(decisions, &summary);
@@ -481,6 +517,7 @@ std::string SummaryJson(const DedupOptions& o, const DedupSummary& s) {
   w.BeginObject();
   seconds("read_and_sign", s.seconds_read);
   seconds("candidates", s.seconds_candidates);
+  if (!s.reference_names.empty()) seconds("references", s.seconds_references);
   seconds("clusters", s.seconds_clusters);
   seconds("write", s.seconds_write);
   seconds("total", s.seconds_total);

@@ -109,6 +109,7 @@ struct DedupSummary {
   uint64_t edges = 0;            // verified, distinct pairs
   ChainGuardResult chain_guard;  // with DedupOptions::chain_guard
   double seconds_read = 0, seconds_candidates = 0, seconds_clusters = 0, seconds_write = 0;
+  double seconds_references = 0;  // of seconds_candidates: matching reference generations
   double seconds_total = 0;
   uint64_t skipped_total() const;
 };

@@ -46,6 +46,13 @@ void DocTable::SetSignature(size_t i, const uint32_t* sig) {
   std::copy(sig, sig + k_, sigs_.begin() + static_cast<size_t>(r.sig_slot) * k_);
 }
 
+void DocTable::ReserveSignatures(size_t n) { sigs_.reserve(n * static_cast<size_t>(k_)); }
+
+void DocTable::ReleaseSignatures() {
+  for (Record& r : records_) r.sig_slot = kNoSlot;
+  std::vector<uint32_t>().swap(sigs_);
+}
+
 DocumentMeta DocTable::doc(size_t i) const {
   const Record& r = records_[i];
   DocumentMeta d;

@@ -19,6 +19,7 @@
 #include <cstdint>
 #include <string>
 #include <unordered_map>
+#include <utility>
 #include <vector>
 
 #include "index/document.h"
@@ -36,9 +37,16 @@ class DocTable {
   // Holds the signature of document i (replacing an earlier one). REQUIRES: i < size().
   void SetSignature(size_t i, const uint32_t* sig);
 
+  // Room for n held signatures in all (avoids regrowing while loading them).
+  void ReserveSignatures(size_t n);
+  // Frees every held signature (signature() is then nullptr for all documents).
+  void ReleaseSignatures();
+
   size_t size() const { return records_.size(); }
   int num_hashes() const { return k_; }
   uint64_t key(size_t i) const { return records_[i].key; }
+  // The normalised-content hash (hi, lo) of document i.
+  std::pair<uint64_t, uint64_t> content(size_t i) const { return {records_[i].content_hi, records_[i].content_lo}; }
   // The document without url and excerpt (built on each call).
   DocumentMeta doc(size_t i) const;
   // The held signature of document i, or nullptr.

@@ -548,6 +548,44 @@ StatusOr<std::vector<uint64_t>> IndexStore::DocumentsWithUrl(const std::string& 
   return KeysUnderPrefix(db_.get(), urls_, prefix);
 }
 
+namespace {
+
+// A sequential scan of a whole family, without filling the block cache.
+std::unique_ptr<rocksdb::Iterator> ScanAll(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* cf) {
+  rocksdb::ReadOptions ro;
+  ro.fill_cache = false;
+  ro.readahead_size = 2 << 20;
+  ro.total_order_seek = true;
+  std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(ro, cf));
+  it->SeekToFirst();
+  return it;
+}
+
+}  // namespace
+
+Status IndexStore::ForEachContent(
+    const std::function<Status(uint64_t hi, uint64_t lo, uint64_t key)>& fn) const {
+  auto it = ScanAll(db_.get(), content_);
+  for (; it->Valid(); it->Next()) {
+    const rocksdb::Slice k = it->key();
+    if (k.size() != 24) return Status::Corruption("content record of size " + std::to_string(k.size()) + " in " + path_);
+    SHINGLETON_RETURN_IF_ERROR(fn(GetBigEndian64(k.data()), GetBigEndian64(k.data() + 8), GetBigEndian64(k.data() + 16)));
+  }
+  return FromRocks(it->status(), "scanning content records of " + path_);
+}
+
+Status IndexStore::ForEachUrl(const std::function<Status(std::string_view url, uint64_t key)>& fn) const {
+  auto it = ScanAll(db_.get(), urls_);
+  for (; it->Valid(); it->Next()) {
+    const rocksdb::Slice k = it->key();
+    if (k.size() < 9 || k[k.size() - 9] != '\0') {
+      return Status::Corruption("URL record without its separator in " + path_);
+    }
+    SHINGLETON_RETURN_IF_ERROR(fn(std::string_view(k.data(), k.size() - 9), GetBigEndian64(k.data() + k.size() - 8)));
+  }
+  return FromRocks(it->status(), "scanning URL records of " + path_);
+}
+
 Status IndexStore::Compact() {
   rocksdb::CompactRangeOptions co;
   co.bottommost_level_compaction = rocksdb::BottommostLevelCompaction::kForce;

@@ -194,6 +194,11 @@ class IndexStore {
   // Keys of documents with exactly this normalised content / normalised URL.
   StatusOr<std::vector<uint64_t>> DocumentsWithContent(uint64_t hi, uint64_t lo) const;
   StatusOr<std::vector<uint64_t>> DocumentsWithUrl(const std::string& normalized_url) const;
+  // Every content record (content hash, doc key) / URL record (normalised URL, doc
+  // key) in key order: ascending (hi, lo, key) / (URL bytes, key). One sequential
+  // scan, for merging with another sorted list instead of one lookup per document.
+  Status ForEachContent(const std::function<Status(uint64_t hi, uint64_t lo, uint64_t key)>& fn) const;
+  Status ForEachUrl(const std::function<Status(std::string_view url, uint64_t key)>& fn) const;
   // Compacts every column family into the fewest files (used when freezing).
   Status Compact();
 

@@ -1,88 +1,118 @@
 #include "index/reference_merge.h"
 
 #include <algorithm>
+#include <utility>
 
-#include "index/bands.h"
 #include "index/minhash.h"
+#include "index/parallel.h"
 
 namespace shingleton {
-
-BandKeysFn TableBandKeys(const DocTable& table, const SketchScheme& scheme) {
-  return [&table, scheme](int band) -> StatusOr<BandKeys> {
-    BandKeys keys(table.size());
-    for (size_t i = 0; i < table.size(); ++i) {
-      keys[i] = {BandBucket(table.signature(i), band, scheme.rows, scheme.seed), table.doc(i).key};
-    }
-    std::sort(keys.begin(), keys.end());
-    return keys;
-  };
-}
-
-BandKeysFn StoreBandKeys(const IndexStore& store) {
-  return [&store](int band) -> StatusOr<BandKeys> {
-    BandKeys keys;
-    SHINGLETON_RETURN_IF_ERROR(
-        store.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& docs) {
-          for (uint64_t d : docs) keys.emplace_back(bucket, d);
-          return Status::Ok();
-        }));
-    return keys;  // ForEachBucket visits buckets in order, members ascending
-  };
-}
-
 namespace {
 
-// Appends the (ref, doc) pairs of one band: the job's sorted keys merged with the
-// generation's buckets of that band, which ForEachBucket yields in bucket order.
-Status CollectBandPairs(const IndexStore& reference, int band, const BandKeys& job,
-                        std::vector<std::pair<uint64_t, uint64_t>>* pairs) {
-  if (job.empty()) return Status::Ok();
-  size_t j = 0;
-  return reference.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& refs) {
-    while (j < job.size() && job[j].first < bucket) ++j;
-    for (size_t i = j; i < job.size() && job[i].first == bucket; ++i) {
-      for (uint64_t r : refs) pairs->emplace_back(r, job[i].second);
+using Pair = std::pair<uint64_t, uint64_t>;  // (ref, doc)
+
+constexpr size_t kVerifyBatch = 8192;  // candidate pairs verified per signature batch
+
+// Signatures of `keys` (sorted, distinct) from `store`, num_hashes values each.
+Status ReadSignatures(const IndexStore& store, const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs) {
+  std::vector<char> found;
+  SHINGLETON_RETURN_IF_ERROR(store.GetSignatures(keys, sigs, &found));
+  for (size_t i = 0; i < keys.size(); ++i) {
+    if (!found[i]) {
+      return Status::Corruption("no signature for document key " + std::to_string(keys[i]) +
+                                " of a posting in " + store.path());
     }
-    return Status::Ok();
-  });
+  }
+  return Status::Ok();
+}
+
+size_t Position(const std::vector<uint64_t>& sorted, uint64_t key) {
+  return static_cast<size_t>(std::lower_bound(sorted.begin(), sorted.end(), key) - sorted.begin());
+}
+
+// Verifies pairs[from, to) (sorted by ref) on signatures read in two MultiGets.
+Status VerifyPairs(const IndexStore& reference, const IndexStore& job, const std::vector<Pair>& pairs,
+                   size_t from, size_t to, double threshold, std::vector<ReferenceHit>* hits) {
+  const int k = job.scheme().num_hashes;
+  std::vector<uint64_t> refs, docs;
+  for (size_t i = from; i < to; ++i) {
+    if (refs.empty() || refs.back() != pairs[i].first) refs.push_back(pairs[i].first);
+    docs.push_back(pairs[i].second);
+  }
+  std::sort(docs.begin(), docs.end());
+  docs.erase(std::unique(docs.begin(), docs.end()), docs.end());
+  std::vector<uint32_t> ref_sigs, doc_sigs;
+  SHINGLETON_RETURN_IF_ERROR(ReadSignatures(reference, refs, &ref_sigs));
+  SHINGLETON_RETURN_IF_ERROR(ReadSignatures(job, docs, &doc_sigs));
+  for (size_t i = from; i < to; ++i) {
+    const uint32_t* r = &ref_sigs[Position(refs, pairs[i].first) * k];
+    const uint32_t* d = &doc_sigs[Position(docs, pairs[i].second) * k];
+    const double sim = EstimateJaccard(d, r, k);
+    if (sim >= threshold) hits->push_back({pairs[i].second, pairs[i].first, static_cast<float>(sim)});
+  }
+  return Status::Ok();
 }
 
 }  // namespace
 
-StatusOr<std::vector<ReferenceHit>> MergeWithReference(const IndexStore& reference,
-                                                       const BandKeysFn& job_keys,
-                                                       const JobSignatureFn& job_signature,
-                                                       double threshold) {
-  const SketchScheme& scheme = reference.scheme();
-  std::vector<std::pair<uint64_t, uint64_t>> pairs;  // (ref, doc)
-  for (int b = 0; b < scheme.bands; ++b) {
-    SHINGLETON_ASSIGN_OR_RETURN(BandKeys keys, job_keys(b));
-    const size_t old = pairs.size();
-    SHINGLETON_RETURN_IF_ERROR(CollectBandPairs(reference, b, keys, &pairs));
-    // Sorted and unique after every band: pairs colliding in many bands count once.
-    std::sort(pairs.begin() + old, pairs.end());
-    std::inplace_merge(pairs.begin(), pairs.begin() + old, pairs.end());
-    pairs.erase(std::unique(pairs.begin(), pairs.end()), pairs.end());
+ReferenceMerger::ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold)
+    : reference_(reference), job_(job), threshold_(threshold), per_band_(reference.scheme().bands) {}
+
+Status ReferenceMerger::AddBand(int band, const BandPostings& mine) {
+  if (band < 0 || band >= static_cast<int>(per_band_.size())) {
+    return Status::InvalidArgument("band " + std::to_string(band) + " of " + std::to_string(per_band_.size()));
   }
-  // Pairs are grouped by reference document: its signature is read once.
+  std::vector<Pair>& pairs = per_band_[band];
+  if (mine.empty()) return Status::Ok();
+  size_t j = 0;
+  SHINGLETON_RETURN_IF_ERROR(
+      reference_.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& refs) {
+        while (j < mine.size() && mine[j].first < bucket) ++j;
+        for (size_t i = j; i < mine.size() && mine[i].first == bucket; ++i) {
+          for (uint64_t r : refs) pairs.emplace_back(r, mine[i].second);
+        }
+        return Status::Ok();
+      }));
+  std::sort(pairs.begin(), pairs.end());  // distinct: one bucket per document and band
+  return Status::Ok();
+}
+
+StatusOr<std::vector<ReferenceHit>> ReferenceMerger::Finish(int threads) {
+  // Pairs colliding in several bands count once; grouped by reference document.
+  std::vector<Pair> pairs;
+  for (auto& p : per_band_) {
+    pairs.insert(pairs.end(), p.begin(), p.end());
+    std::vector<Pair>().swap(p);
+  }
+  std::sort(pairs.begin(), pairs.end());
+  pairs.erase(std::unique(pairs.begin(), pairs.end()), pairs.end());
+  const size_t batches = (pairs.size() + kVerifyBatch - 1) / kVerifyBatch;
+  std::vector<std::vector<ReferenceHit>> per_batch(batches);
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(batches, threads, [&](size_t i) {
+    return VerifyPairs(reference_, job_, pairs, i * kVerifyBatch, std::min(pairs.size(), (i + 1) * kVerifyBatch),
+                       threshold_, &per_batch[i]);
+  }));
   std::vector<ReferenceHit> hits;
-  for (size_t i = 0; i < pairs.size();) {
-    const uint64_t ref = pairs[i].first;
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> ref_sig, reference.GetSignature(ref));
-    for (; i < pairs.size() && pairs[i].first == ref; ++i) {
-      const uint32_t* sig = job_signature(pairs[i].second);
-      if (sig == nullptr) {
-        return Status::Corruption("no signature for document key " + std::to_string(pairs[i].second) +
-                                  " of a posting");
-      }
-      const double sim = EstimateJaccard(sig, ref_sig.data(), scheme.num_hashes);
-      if (sim >= threshold) hits.push_back({pairs[i].second, ref, static_cast<float>(sim)});
-    }
-  }
+  for (const auto& h : per_batch) hits.insert(hits.end(), h.begin(), h.end());
   std::sort(hits.begin(), hits.end(), [](const ReferenceHit& a, const ReferenceHit& b) {
     return a.doc != b.doc ? a.doc < b.doc : a.ref < b.ref;
   });
   return hits;
+}
+
+StatusOr<std::vector<ReferenceHit>> MergeWithReference(const IndexStore& reference, const IndexStore& job,
+                                                       double threshold, int threads) {
+  const SketchScheme& scheme = reference.scheme();
+  if (job.scheme() != scheme) {
+    return Status::Mismatch("the job at " + job.path() + " and the reference at " + reference.path() +
+                            " have different sketch schemes (" + job.scheme().DescribeDifference(scheme) + ")");
+  }
+  ReferenceMerger merger(reference, job, threshold);
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(scheme.bands, threads, [&](size_t b) -> Status {
+    SHINGLETON_ASSIGN_OR_RETURN(BandPostings postings, ReadBandPostings(job, static_cast<int>(b)));
+    return merger.AddBand(static_cast<int>(b), postings);
+  }));
+  return merger.Finish(threads);
 }
 
 }  // namespace shingleton

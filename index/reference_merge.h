@@ -1,31 +1,31 @@
 // Reference merge: the near-duplicate candidates between a job's documents and one
-// frozen generation (or one shard's part of it), found by merging sorted band keys
-// with the generation's postings in key order — sequential reads of the reference,
-// not one point lookup per document and band.
+// frozen generation (or one shard's part of it), found by merging the two indexes'
+// postings in key order — sequential reads of both, not one point lookup per
+// document and band.
 //
-// For each band b: the job's (bucket, doc) pairs of band b, sorted, are merged with
-// the generation's postings of band b (stored sorted by bucket). Every (doc, ref)
-// pair sharing a bucket in some band is a candidate; each distinct candidate is
-// verified once on the signatures, and kept when its estimated Jaccard is at least
-// the threshold. The result is exactly the set the point-lookup path
-// (ReferenceSet::PointNearHits) finds: a pair is a candidate iff it shares a bucket
-// in at least one band, whichever way the buckets are visited.
+// For each band b (bands in parallel): the job's postings of band b and the
+// generation's, both stored sorted by bucket, are merged; every (doc, ref) pair
+// sharing a bucket in some band is a candidate. Each distinct candidate is verified
+// once on the two signatures, read in sorted batches (MultiGet) from the two
+// stores, and kept when its estimated Jaccard is at least the threshold. The result
+// is exactly the set the point-lookup path (ReferenceSet::PointNearCandidates) finds
+// for the documents that have postings: a pair is a candidate iff it shares a
+// bucket in at least one band, whichever way the buckets are visited.
 //
-// Used by the embedded job (job keys from its DocTable, whole generation) and by
-// every shard (job keys from its own postings, its part of the generation).
+// Used by the embedded job (its own index, whole generation) and by every shard (its
+// part of the job, its part of the generation).
 //
-// Memory: one band of the job's keys at a time, plus the candidate pairs.
+// Memory: the job's postings of the bands in flight (16 bytes each, one band per
+// thread), the candidate pairs (16 bytes each), and the signatures of one batch.
 // Thread safety: pure function of its arguments; the stores are only read.
 #pragma once
 
 #include <cstdint>
-#include <functional>
 #include <utility>
 #include <vector>
 
-#include "index/doc_table.h"
+#include "index/bucket_scan.h"
 #include "index/index_store.h"
-#include "index/scheme.h"
 #include "index/status.h"
 
 namespace shingleton {
@@ -37,22 +37,31 @@ struct ReferenceHit {
   float similarity = 0;
 };
 
-// (bucket, doc key) pairs of one band, sorted ascending.
-using BandKeys = std::vector<std::pair<uint64_t, uint64_t>>;
-using BandKeysFn = std::function<StatusOr<BandKeys>(int band)>;
-// The signature of a job document (num_hashes values), or nullptr if unknown.
-using JobSignatureFn = std::function<const uint32_t*(uint64_t key)>;
+// The merge of one generation, fed band by band (so a job that scans its postings
+// once for its own buckets can offer each band here while it is in memory).
+class ReferenceMerger {
+ public:
+  // `job` holds the signatures of the job's documents; both stores must outlive
+  // the merger and have the same scheme.
+  ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold);
+  // Merges one band of the job's postings ((bucket, doc) ascending) with the
+  // generation's. Distinct bands may be added concurrently; each band once.
+  Status AddBand(int band, const BandPostings& job_postings);
+  // Verifies every distinct candidate pair of all bands added; the hits with
+  // similarity >= threshold, sorted by (doc, ref), each pair once.
+  StatusOr<std::vector<ReferenceHit>> Finish(int threads);
 
-// The job side from documents in memory: every document in every band.
-BandKeysFn TableBandKeys(const DocTable& table, const SketchScheme& scheme);
-// The job side from an index's postings (a shard holds only the buckets it owns).
-BandKeysFn StoreBandKeys(const IndexStore& store);
+ private:
+  const IndexStore& reference_;
+  const IndexStore& job_;
+  double threshold_;
+  std::vector<std::vector<std::pair<uint64_t, uint64_t>>> per_band_;  // (ref, doc), sorted
+};
 
-// Hits of the job against `reference` with similarity >= threshold, sorted by
-// (doc, ref), each pair once. `reference` must have the job's scheme.
-StatusOr<std::vector<ReferenceHit>> MergeWithReference(const IndexStore& reference,
-                                                       const BandKeysFn& job_keys,
-                                                       const JobSignatureFn& job_signature,
-                                                       double threshold);
+// Reads every band of the job's postings and merges it: the hits of `job`
+// against `reference`; the same for any `threads`. Mismatch if the two stores
+// have different schemes; Corruption if a posting's document has no signature.
+StatusOr<std::vector<ReferenceHit>> MergeWithReference(const IndexStore& reference, const IndexStore& job,
+                                                       double threshold, int threads);
 
 }  // namespace shingleton

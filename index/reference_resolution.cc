@@ -1,29 +1,55 @@
 #include "index/reference_resolution.h"
 
-#include <oneapi/tbb/global_control.h>
-#include <oneapi/tbb/parallel_for.h>
-#include <oneapi/tbb/task_arena.h>
-
 #include <algorithm>
-#include <functional>
+#include <string_view>
+#include <tuple>
+
+#include "index/parallel.h"
 
 namespace shingleton {
 
 namespace {
 
-// Runs fn(i) for i in [0, n) on `threads` threads; the first error wins.
-Status ParallelFor(size_t n, int threads, const std::function<Status(size_t)>& fn) {
-  std::vector<Status> errors(n);
-  threads = std::max(threads, 1);
-  tbb::global_control allow(tbb::global_control::max_allowed_parallelism, std::max(threads, 2));
-  tbb::task_arena arena(threads);
-  arena.execute([&] { tbb::parallel_for(size_t{0}, n, [&](size_t i) { errors[i] = fn(i); }); });
-  for (const Status& s : errors) SHINGLETON_RETURN_IF_ERROR(s);
+// Exact-copy candidates of every document from one key-order scan of each
+// generation's content records, merged with the table's content hashes sorted.
+Status MergeExact(const ReferenceSet& refs, const DocTable& table, ReferenceCandidates* out) {
+  std::vector<std::tuple<uint64_t, uint64_t, size_t>> mine(table.size());  // (hi, lo, index)
+  for (size_t i = 0; i < table.size(); ++i) {
+    const auto [hi, lo] = table.content(i);
+    mine[i] = {hi, lo, i};
+  }
+  std::sort(mine.begin(), mine.end());
+  for (int g = 0; g < static_cast<int>(refs.size()); ++g) {
+    size_t j = 0;
+    SHINGLETON_RETURN_IF_ERROR(refs.store(g).ForEachContent([&](uint64_t hi, uint64_t lo, uint64_t key) {
+      while (j < mine.size() && std::tie(std::get<0>(mine[j]), std::get<1>(mine[j])) < std::tie(hi, lo)) ++j;
+      for (size_t i = j; i < mine.size() && std::get<0>(mine[i]) == hi && std::get<1>(mine[i]) == lo; ++i) {
+        (*out)[std::get<2>(mine[i])].push_back({g, key, 1.0f, DropReason::kReferenceExact});
+      }
+      return Status::Ok();
+    }));
+  }
   return Status::Ok();
 }
 
-bool HitBefore(const NearHit& a, const NearHit& b) {
-  return a.generation != b.generation ? a.generation < b.generation : a.key < b.key;
+// URL revisits of every document with a normalised URL, the same way.
+Status MergeUrls(const ReferenceSet& refs, const std::vector<std::string>& urls, ReferenceCandidates* out) {
+  std::vector<std::pair<std::string_view, size_t>> mine;
+  for (size_t i = 0; i < urls.size(); ++i) {
+    if (!urls[i].empty()) mine.emplace_back(urls[i], i);
+  }
+  std::sort(mine.begin(), mine.end());
+  for (int g = 0; g < static_cast<int>(refs.size()); ++g) {
+    size_t j = 0;
+    SHINGLETON_RETURN_IF_ERROR(refs.store(g).ForEachUrl([&](std::string_view url, uint64_t key) {
+      while (j < mine.size() && mine[j].first < url) ++j;
+      for (size_t i = j; i < mine.size() && mine[i].first == url; ++i) {
+        (*out)[mine[i].second].push_back({g, key, 1.0f, DropReason::kUrl});
+      }
+      return Status::Ok();
+    }));
+  }
+  return Status::Ok();
 }
 
 }  // namespace
@@ -34,64 +60,68 @@ StatusOr<ReferenceLookup> ParseReferenceLookup(const std::string& name) {
   return Status::InvalidArgument("unknown reference lookup '" + name + "' (merge or point)");
 }
 
-Status AddShardHits(const DocTable& table, int generation, const std::vector<ReferenceHit>& hits,
-                    NearHits* near) {
+Status AddNearHits(const DocTable& table, int generation, const std::vector<ReferenceHit>& hits,
+                   ReferenceCandidates* candidates) {
   for (const ReferenceHit& h : hits) {
     const int64_t i = table.IndexOf(h.doc);
     if (i < 0) return Status::Corruption("reference hit for unknown document key " + std::to_string(h.doc));
-    (*near)[static_cast<size_t>(i)].push_back({generation, h.ref, h.similarity});
+    (*candidates)[static_cast<size_t>(i)].push_back({generation, h.ref, h.similarity, DropReason::kReferenceNear});
   }
   return Status::Ok();
 }
 
-void NormalizeNearHits(NearHits* near) {
-  for (auto& list : *near) {
-    std::sort(list.begin(), list.end(), HitBefore);
-    list.erase(std::unique(list.begin(), list.end(),
-                           [](const NearHit& a, const NearHit& b) { return !HitBefore(a, b) && !HitBefore(b, a); }),
-               list.end());
-  }
-}
-
-StatusOr<NearHits> FindNearHits(const ReferenceSet& refs, const DocTable& table,
-                                const ReferenceMatchOptions& o) {
-  NearHits near(table.size());
-  if (o.lookup == ReferenceLookup::kPoint) {
-    SHINGLETON_RETURN_IF_ERROR(ParallelFor(table.size(), o.threads, [&](size_t i) -> Status {
-      SHINGLETON_ASSIGN_OR_RETURN(near[i], refs.PointNearHits(table.signature(i), o.threshold));
-      return Status::Ok();
-    }));
-    return near;
-  }
-  const BandKeysFn keys = TableBandKeys(table, refs.scheme());
-  const JobSignatureFn sig = [&table](uint64_t key) { return table.SignatureOf(key); };
-  for (int g = 0; g < static_cast<int>(refs.size()); ++g) {
-    SHINGLETON_ASSIGN_OR_RETURN(auto hits, MergeWithReference(refs.store(g), keys, sig, o.threshold));
-    SHINGLETON_RETURN_IF_ERROR(AddShardHits(table, g, hits, &near));
-  }
-  NormalizeNearHits(&near);
+StatusOr<ReferenceCandidates> LookUpNearCandidates(const ReferenceSet& refs, const DocTable& table, double threshold,
+                                                   int threads) {
+  ReferenceCandidates near(table.size());
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(table.size(), threads, [&](size_t i) -> Status {
+    if (table.signature(i) == nullptr) {
+      return Status::Internal("point lookups need the signature of document " + std::to_string(table.key(i)));
+    }
+    SHINGLETON_ASSIGN_OR_RETURN(near[i], refs.PointNearCandidates(table.signature(i), threshold));
+    return Status::Ok();
+  }));
   return near;
 }
 
-StatusOr<std::vector<ReferenceMatch>> ResolveReferences(const ReferenceSet& refs, const DocTable& table,
-                                                        const std::vector<std::string>& normalized_urls,
-                                                        bool url_revisits, const NearHits& near,
-                                                        int threads) {
-  std::vector<ReferenceMatch> matches(table.size());
-  static const std::string kNoUrl;
-  SHINGLETON_RETURN_IF_ERROR(ParallelFor(table.size(), threads, [&](size_t i) -> Status {
-    const std::string& url = normalized_urls.empty() ? kNoUrl : normalized_urls[i];
-    SHINGLETON_ASSIGN_OR_RETURN(matches[i], refs.Resolve(table.doc(i), url, url_revisits, near[i]));
+void ShareWithCopies(const DocTable& table, const std::vector<Edge>& exact_edges, ReferenceCandidates* c) {
+  for (const Edge& e : exact_edges) {
+    const int64_t a = table.IndexOf(e.a), b = table.IndexOf(e.b);
+    if (a < 0 || b < 0) continue;
+    auto& la = (*c)[static_cast<size_t>(a)];
+    auto& lb = (*c)[static_cast<size_t>(b)];
+    if (la.empty() == lb.empty()) continue;  // both have theirs (or neither has any)
+    if (la.empty()) {
+      la = lb;
+    } else {
+      lb = la;
+    }
+  }
+}
+
+Status AddExactCandidates(const ReferenceSet& refs, const DocTable& table,
+                          const std::vector<std::string>& normalized_urls, const ReferenceMatchOptions& o,
+                          ReferenceCandidates* candidates) {
+  const bool urls = o.url_revisits && !normalized_urls.empty();
+  if (o.lookup == ReferenceLookup::kPoint) {
+    static const std::string kNoUrl;
+    return ParallelFor(table.size(), o.threads, [&](size_t i) {
+      return refs.PointExactCandidates(table.doc(i), urls ? normalized_urls[i] : kNoUrl, urls, &(*candidates)[i]);
+    });
+  }
+  SHINGLETON_RETURN_IF_ERROR(MergeExact(refs, table, candidates));
+  if (urls) SHINGLETON_RETURN_IF_ERROR(MergeUrls(refs, normalized_urls, candidates));
+  return Status::Ok();
+}
+
+StatusOr<std::vector<ReferenceMatch>> ResolveReferences(const ReferenceSet& refs,
+                                                        const ReferenceCandidates& candidates, int threads) {
+  std::vector<ReferenceMatch> matches(candidates.size());
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(candidates.size(), threads, [&](size_t i) -> Status {
+    if (candidates[i].empty()) return Status::Ok();
+    SHINGLETON_ASSIGN_OR_RETURN(matches[i], refs.Best(candidates[i]));
     return Status::Ok();
   }));
   return matches;
-}
-
-StatusOr<std::vector<ReferenceMatch>> MatchReferences(const ReferenceSet& refs, const DocTable& table,
-                                                      const std::vector<std::string>& normalized_urls,
-                                                      const ReferenceMatchOptions& o) {
-  SHINGLETON_ASSIGN_OR_RETURN(NearHits near, FindNearHits(refs, table, o));
-  return ResolveReferences(refs, table, normalized_urls, o.url_revisits, near, o.threads);
 }
 
 void DropEdgesOfMatched(const DocTable& table, const std::vector<ReferenceMatch>& matches,

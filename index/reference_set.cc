@@ -35,7 +35,18 @@ std::string UtcNow() {
   return buf;
 }
 
-// Better: higher similarity, then earlier generation, then smaller id.
+// The order of kinds of match: a URL revisit over an exact copy over a near one.
+int ReasonRank(DropReason r) {
+  switch (r) {
+    case DropReason::kUrl: return 3;
+    case DropReason::kReferenceExact: return 2;
+    case DropReason::kReferenceNear: return 1;
+    default: return 0;
+  }
+}
+
+// Of two matches of the same kind: higher similarity, then earlier generation,
+// then smaller id.
 bool Better(const ReferenceMatch& a, const ReferenceMatch& b) {
   if (!b.found()) return a.found();
   if (!a.found()) return false;
@@ -218,40 +229,25 @@ StatusOr<std::unique_ptr<ReferenceSet>> ReferenceSet::Open(const std::vector<std
   return set;
 }
 
-StatusOr<ReferenceMatch> ReferenceSet::Resolve(const DocumentMeta& doc, const std::string& normalized_url,
-                                               bool url_revisits, const std::vector<NearHit>& near) const {
+StatusOr<ReferenceMatch> ReferenceSet::Best(const std::vector<ReferenceCandidate>& candidates) const {
   ReferenceMatch best;
-  auto consider = [&](int g, uint64_t key, float sim, DropReason reason) -> Status {
-    SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta ref, generations_[g].store->GetDocument(key));
-    ReferenceMatch m{g, key, ref.id, sim, reason};
-    if (Better(m, best)) best = m;
-    return Status::Ok();
-  };
-  for (int g = 0; g < static_cast<int>(generations_.size()) && url_revisits && !normalized_url.empty();
-       ++g) {
-    SHINGLETON_ASSIGN_OR_RETURN(auto keys, generations_[g].store->DocumentsWithUrl(normalized_url));
-    for (uint64_t k : keys) SHINGLETON_RETURN_IF_ERROR(consider(g, k, 1.0f, DropReason::kUrl));
-  }
-  if (best.found()) return best;
-  for (int g = 0; g < static_cast<int>(generations_.size()); ++g) {
-    SHINGLETON_ASSIGN_OR_RETURN(auto keys,
-                                generations_[g].store->DocumentsWithContent(doc.content_hi, doc.content_lo));
-    for (uint64_t k : keys) SHINGLETON_RETURN_IF_ERROR(consider(g, k, 1.0f, DropReason::kReferenceExact));
-  }
-  if (best.found()) return best;
-  for (const NearHit& h : near) {
-    if (h.generation < 0 || h.generation >= static_cast<int>(generations_.size())) {
-      return Status::InvalidArgument("near candidate of generation " + std::to_string(h.generation) +
+  for (const ReferenceCandidate& c : candidates) {
+    if (c.generation < 0 || c.generation >= static_cast<int>(generations_.size())) {
+      return Status::InvalidArgument("reference candidate of generation " + std::to_string(c.generation) +
                                      " of " + std::to_string(generations_.size()));
     }
-    SHINGLETON_RETURN_IF_ERROR(consider(h.generation, h.key, h.similarity, DropReason::kReferenceNear));
+    if (best.found() && ReasonRank(c.reason) < ReasonRank(best.reason)) continue;
+    SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta ref, generations_[c.generation].store->GetDocument(c.key));
+    ReferenceMatch m{c.generation, c.key, ref.id, c.similarity, c.reason};
+    if (!best.found() || ReasonRank(m.reason) > ReasonRank(best.reason) || Better(m, best)) best = m;
   }
   return best;
 }
 
-StatusOr<std::vector<NearHit>> ReferenceSet::PointNearHits(const uint32_t* sig, double threshold) const {
+StatusOr<std::vector<ReferenceCandidate>> ReferenceSet::PointNearCandidates(const uint32_t* sig,
+                                                                            double threshold) const {
   const int k = scheme_.num_hashes;
-  std::vector<NearHit> hits;
+  std::vector<ReferenceCandidate> hits;
   for (int g = 0; g < static_cast<int>(generations_.size()); ++g) {
     std::vector<uint64_t> candidates;
     for (int b = 0; b < scheme_.bands; ++b) {
@@ -265,10 +261,23 @@ StatusOr<std::vector<NearHit>> ReferenceSet::PointNearHits(const uint32_t* sig, 
     for (uint64_t key : candidates) {
       SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> ref_sig, generations_[g].store->GetSignature(key));
       const double sim = EstimateJaccard(sig, ref_sig.data(), k);
-      if (sim >= threshold) hits.push_back({g, key, static_cast<float>(sim)});
+      if (sim >= threshold) hits.push_back({g, key, static_cast<float>(sim), DropReason::kReferenceNear});
     }
   }
   return hits;
+}
+
+Status ReferenceSet::PointExactCandidates(const DocumentMeta& doc, const std::string& normalized_url,
+                                          bool url_revisits, std::vector<ReferenceCandidate>* out) const {
+  for (int g = 0; g < static_cast<int>(generations_.size()); ++g) {
+    if (url_revisits && !normalized_url.empty()) {
+      SHINGLETON_ASSIGN_OR_RETURN(auto keys, generations_[g].store->DocumentsWithUrl(normalized_url));
+      for (uint64_t k : keys) out->push_back({g, k, 1.0f, DropReason::kUrl});
+    }
+    SHINGLETON_ASSIGN_OR_RETURN(auto keys, generations_[g].store->DocumentsWithContent(doc.content_hi, doc.content_lo));
+    for (uint64_t k : keys) out->push_back({g, k, 1.0f, DropReason::kReferenceExact});
+  }
+  return Status::Ok();
 }
 
 }  // namespace shingleton

@@ -10,13 +10,14 @@
 // so anyone can check that a generation is unchanged. Generations are opened
 // read-only, without an info log, so no job alters a byte of them.
 //
-// Matching a new document (ReferenceSet::Resolve), in order: its normalised URL in a
+// Matching a new document (ReferenceSet::Best), in order: its normalised URL in a
 // generation (a re-crawl; only when asked), identical normalised text (content
 // hash), then LSH candidates verified on the signature (>= threshold). The best
 // match wins: highest similarity, then the earlier generation on the command line,
-// then the smaller id. The near candidates come from point lookups
-// (PointNearHits), from the key-order merge (reference_merge.h) or, in the service,
-// from the shards that hold the generation's postings; all give the same hits.
+// then the smaller id. The candidates come from point lookups (PointNearCandidates,
+// PointExactCandidates), from key-order merges (reference_merge.h,
+// reference_resolution.h) or, in the service, from the shards that hold the
+// generation's postings; all give the same candidates.
 //
 // Thread safety: a ReferenceSet is immutable once open; Match() may run concurrently.
 #pragma once
@@ -70,11 +71,14 @@ struct ReferenceMatch {
   bool found() const { return generation >= 0; }
 };
 
-// A verified near candidate of one document in generation `generation`.
-struct NearHit {
+// A reference document a job document may be dropped for: a URL revisit
+// (kUrl, similarity 1), an identical normalised text (kReferenceExact, 1) or a
+// near candidate verified on the signatures (kReferenceNear, its estimate).
+struct ReferenceCandidate {
   int generation = 0;
   uint64_t key = 0;
   float similarity = 0;
+  DropReason reason = DropReason::kReferenceNear;
 };
 
 class ReferenceSet {
@@ -83,15 +87,18 @@ class ReferenceSet {
   static StatusOr<std::unique_ptr<ReferenceSet>> Open(const std::vector<std::string>& dirs,
                                                       const SketchScheme& scheme);
 
-  // The best match of a document given its verified near candidates `near`
-  // (any order). `normalized_url` may be empty; URL revisits are only looked for
-  // when `url_revisits`.
-  StatusOr<ReferenceMatch> Resolve(const DocumentMeta& doc, const std::string& normalized_url,
-                                   bool url_revisits, const std::vector<NearHit>& near) const;
+  // The best of a document's candidates (any order, repeats allowed): a URL revisit
+  // over an exact copy over a near candidate; then the higher similarity, the
+  // earlier generation, the smaller id. Not found when there is none.
+  StatusOr<ReferenceMatch> Best(const std::vector<ReferenceCandidate>& candidates) const;
 
   // Near candidates of one signature by point lookups of its bucket in every band
   // of every generation, verified (>= threshold); sorted by (generation, key).
-  StatusOr<std::vector<NearHit>> PointNearHits(const uint32_t* sig, double threshold) const;
+  StatusOr<std::vector<ReferenceCandidate>> PointNearCandidates(const uint32_t* sig, double threshold) const;
+  // Exact-copy candidates of one document (and URL revisits of `normalized_url`
+  // when url_revisits and it is not empty) by point lookups; appended to *out.
+  Status PointExactCandidates(const DocumentMeta& doc, const std::string& normalized_url, bool url_revisits,
+                              std::vector<ReferenceCandidate>* out) const;
 
   size_t size() const { return generations_.size(); }
   const GenerationRecord& record(int g) const { return generations_[g].record; }

@@ -371,10 +371,10 @@ Status CoordinatorService::DoQuery(const v1::QueryRequest& req, v1::QueryRespons
   return Status::Ok();
 }
 
-StatusOr<NearHits> CoordinatorService::ShardNearHits(const Job& job, const ReferenceSet& refs,
-                                                     const DocTable& table) {
+StatusOr<ReferenceCandidates> CoordinatorService::ShardNearHits(const Job& job, const ReferenceSet& refs,
+                                                                const DocTable& table) {
   const size_t n = shards_.size();
-  NearHits near(table.size());
+  ReferenceCandidates near(table.size());
   for (int g = 0; g < static_cast<int>(refs.size()); ++g) {
     std::vector<std::vector<ReferenceHit>> shard_hits(n);
     SHINGLETON_RETURN_IF_ERROR(ForEachShardParallel(n, [&](size_t i) -> Status {
@@ -398,9 +398,8 @@ StatusOr<NearHits> CoordinatorService::ShardNearHits(const Job& job, const Refer
       return FromGrpcStatus(reader->Finish(), "matching reference generation " + refs.record(g).name +
                                                   " on shard " + options_.shards[i]);
     }));
-    for (const auto& hits : shard_hits) SHINGLETON_RETURN_IF_ERROR(AddShardHits(table, g, hits, &near));
+    for (const auto& hits : shard_hits) SHINGLETON_RETURN_IF_ERROR(AddNearHits(table, g, hits, &near));
   }
-  NormalizeNearHits(&near);
   return near;
 }
 
@@ -455,14 +454,16 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   // 2. Documents, clusters, decisions: the same library calls as the embedded job.
   DocTable table(job->scheme.num_hashes);
   std::vector<std::string> normalized_urls;
-  SHINGLETON_RETURN_IF_ERROR(job->store->ForEachDocument([&](DocumentMeta meta) -> Status {
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<uint32_t> sig, job->store->GetSignature(meta.key));
+  // One key-order scan of documents and signatures (no point lookups).
+  SHINGLETON_RETURN_IF_ERROR(job->store->ForEachDocumentRecord([&](const DocumentMeta& meta, const Decision*,
+                                                                   const std::vector<uint32_t>& sig) -> Status {
+    if (sig.empty()) return Status::Corruption("document " + meta.id + " of job " + job->name + " has no signature");
     if (meta.tokens == 0) ++summary.empty_documents;
     if (options_.url_revisits) {
       auto url = meta.url.empty() ? StatusOr<std::string>(std::string()) : NormalizeUrl(meta.url);
       normalized_urls.push_back(url.ok() ? url.value() : std::string());
     }
-    return table.Add(std::move(meta), sig.data());
+    return table.Add(meta, sig.data());
   }));
   summary.records_read = summary.documents = table.size();
 
@@ -472,9 +473,13 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   if (!options_.references.empty()) {
     SHINGLETON_ASSIGN_OR_RETURN(refs, ReferenceSet::Open(options_.references, job->scheme));
     for (size_t g = 0; g < refs->size(); ++g) summary.reference_names.push_back(refs->record(g).name);
-    SHINGLETON_ASSIGN_OR_RETURN(NearHits near, ShardNearHits(*job, *refs, table));
-    SHINGLETON_ASSIGN_OR_RETURN(matches, ResolveReferences(*refs, table, normalized_urls, options_.url_revisits,
-                                                           near, ResolveThreads(0)));
+    SHINGLETON_ASSIGN_OR_RETURN(ReferenceCandidates candidates, ShardNearHits(*job, *refs, table));
+    ReferenceMatchOptions mo;
+    mo.threshold = job->params.threshold();
+    mo.url_revisits = options_.url_revisits;
+    mo.threads = ResolveThreads(0);
+    SHINGLETON_RETURN_IF_ERROR(AddExactCandidates(*refs, table, normalized_urls, mo, &candidates));
+    SHINGLETON_ASSIGN_OR_RETURN(matches, ResolveReferences(*refs, candidates, mo.threads));
     DropEdgesOfMatched(table, matches, &edges);
   }
   std::vector<Decision> decisions = ResolveClusters(table, edges, job->policy);

@@ -91,7 +91,7 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
   StatusOr<Job*> GetOrCreateJob(const std::string& name, const v1::JobParams& params);
   // Near candidates of the job's documents in every reference generation, from the
   // shards (each merges its buckets of the job with its part of the generation).
-  StatusOr<NearHits> ShardNearHits(const Job& job, const ReferenceSet& refs, const DocTable& table);
+  StatusOr<ReferenceCandidates> ShardNearHits(const Job& job, const ReferenceSet& refs, const DocTable& table);
   Status WriteToShards(Job* job, const std::vector<const v1::SignedDocument*>& docs);
 
   CoordinatorOptions options_;

@@ -211,11 +211,8 @@ StatusOr<std::vector<v1::MatchReferenceResponse>> ShardService::DoMatchReference
     return Status::Mismatch("job " + req.job() + " has scheme " + job->scheme().Serialize() +
                             "; generation " + part->record.generation + " has " + part->record.scheme);
   }
-  SHINGLETON_ASSIGN_OR_RETURN(SignatureMap sigs, SignatureMap::Load(*job));
-  SHINGLETON_ASSIGN_OR_RETURN(
-      std::vector<ReferenceHit> hits,
-      MergeWithReference(*part->store, StoreBandKeys(*job), [&sigs](uint64_t key) { return sigs.Find(key); },
-                         req.threshold()));
+  SHINGLETON_ASSIGN_OR_RETURN(std::vector<ReferenceHit> hits,
+                              MergeWithReference(*part->store, *job, req.threshold(), ResolveThreads(0)));
   constexpr int kChunk = 20000;
   for (const ReferenceHit& h : hits) {
     if (chunks.back().hits_size() >= kChunk) chunks.emplace_back();

@@ -8,6 +8,7 @@
 #include <algorithm>
 #include <fstream>
 #include <iterator>
+#include <map>
 #include <set>
 #include <tuple>
 
@@ -17,7 +18,9 @@
 #include "index/partition.h"
 #include "index/reference_merge.h"
 #include "index/reference_parts.h"
+#include "index/reference_resolution.h"
 #include "index/reference_set.h"
+#include "index/url_normalizer.h"
 #include "tests/test_util.h"
 
 namespace shingleton {
@@ -97,19 +100,37 @@ TEST(ReferenceMergeTest, MergeAndPointLookupsFindExactlyTheCandidatesByDefinitio
   }
   ASSERT_GT(expected.size(), 100u);  // the demo's families span both halves
 
-  auto merged = MergeWithReference(refs->store(0), TableBandKeys(table, scheme),
-                                   [&](uint64_t k) { return table.SignatureOf(k); }, t);
-  ASSERT_TRUE(merged.ok()) << merged.status().ToString();
-  std::set<Hit> got;
-  for (const ReferenceHit& h : merged.value()) got.insert({h.doc, h.ref, h.similarity});
-  EXPECT_EQ(got.size(), merged->size()) << "each pair once";
-  EXPECT_EQ(got, expected);
+  // The merge reads the job's postings: it finds, for every document with postings,
+  // exactly the pairs of the definition (exact copies within the crawl have none;
+  // the job gives them the candidates of the document they copy), on any number of
+  // threads.
+  std::set<uint64_t> with_postings;
+  for (int b = 0; b < scheme.bands; ++b) {
+    ASSERT_TRUE(job->ForEachBucket(b, 1, [&](int, uint64_t, const std::vector<uint64_t>& docs) {
+                     with_postings.insert(docs.begin(), docs.end());
+                     return Status::Ok();
+                   }).ok());
+  }
+  ASSERT_LT(with_postings.size(), table.size()) << "the demo has exact copies";
+  std::set<Hit> expected_with_postings;
+  for (const Hit& h : expected) {
+    if (with_postings.count(std::get<0>(h))) expected_with_postings.insert(h);
+  }
+  for (int threads : {1, 3}) {
+    auto merged = MergeWithReference(refs->store(0), *job, t, threads);
+    ASSERT_TRUE(merged.ok()) << merged.status().ToString();
+    std::set<Hit> got;
+    for (const ReferenceHit& h : merged.value()) got.insert({h.doc, h.ref, h.similarity});
+    EXPECT_EQ(got.size(), merged->size()) << "each pair once";
+    EXPECT_EQ(got, expected_with_postings) << threads << " threads";
+  }
 
   std::set<Hit> point;
   for (size_t i = 0; i < table.size(); ++i) {
-    auto hits = refs->PointNearHits(table.signature(i), t);
+    auto hits = refs->PointNearCandidates(table.signature(i), t);
     ASSERT_TRUE(hits.ok());
-    for (const NearHit& h : hits.value()) {
+    for (const ReferenceCandidate& h : hits.value()) {
+      EXPECT_EQ(h.reason, DropReason::kReferenceNear);
       point.insert({table.doc(i).key, h.key, h.similarity});
     }
   }
@@ -119,13 +140,64 @@ TEST(ReferenceMergeTest, MergeAndPointLookupsFindExactlyTheCandidatesByDefinitio
                       std::back_inserter(only_expected));
   EXPECT_TRUE(only_point.empty() && only_expected.empty())
       << only_point.size() << " hits only by point lookups, " << only_expected.size() << " missed by them";
+}
 
-  // The job side read from an index's postings gives the same hits for the
-  // documents that have postings (exact copies within the crawl have none).
-  auto from_store = MergeWithReference(refs->store(0), StoreBandKeys(*job),
-                                       [&](uint64_t k) { return table.SignatureOf(k); }, t);
-  ASSERT_TRUE(from_store.ok());
-  for (const ReferenceHit& h : from_store.value()) EXPECT_TRUE(expected.count({h.doc, h.ref, h.similarity}));
+TEST(ReferenceMergeTest, ExactAndUrlMergesFindWhatPointLookupsFind) {
+  // Exact copies by definition: identical normalised-content hash; URL revisits:
+  // identical normalised URL (RFC 3986 normalisation, url_normalizer). The merge of
+  // sorted keys and the per-document lookups must list the same candidates.
+  TempDir dir;
+  FreezeFirstHalf(dir);
+  DedupOptions o;
+  o.ingest.inputs = {kCorpus};  // both halves: every old document is in the new crawl
+  o.out_dir = dir.File("all");
+  ASSERT_TRUE(RunDedupJob(o).ok());
+  StoreOptions ro;
+  ro.read_only = true;
+  auto job = IndexStore::Open(dir.File("all/index"), nullptr, ro).value();
+  const DocTable table = LoadTable(*job);
+  std::vector<std::string> urls(table.size());
+  for (size_t i = 0; i < table.size(); ++i) {
+    auto url = NormalizeUrl(job->GetDocument(table.key(i)).value().url);
+    if (url.ok()) urls[i] = url.value();
+  }
+  auto refs = ReferenceSet::Open({dir.File("ref")}, job->scheme()).value();
+  using Found = std::set<std::tuple<size_t, uint64_t, int>>;  // (doc index, ref key, reason)
+  Found found[2];
+  for (ReferenceLookup lookup : {ReferenceLookup::kMerge, ReferenceLookup::kPoint}) {
+    ReferenceMatchOptions mo;
+    mo.url_revisits = true;
+    mo.threads = 2;
+    mo.lookup = lookup;
+    ReferenceCandidates c(table.size());
+    ASSERT_TRUE(AddExactCandidates(*refs, table, urls, mo, &c).ok());
+    for (size_t i = 0; i < c.size(); ++i) {
+      for (const ReferenceCandidate& rc : c[i]) found[lookup == ReferenceLookup::kPoint].insert({i, rc.key, static_cast<int>(rc.reason)});
+    }
+  }
+  // By definition, from the generation's documents themselves.
+  std::multimap<std::pair<uint64_t, uint64_t>, uint64_t> by_content;
+  std::multimap<std::string, uint64_t> by_url;
+  ASSERT_TRUE(refs->store(0)
+                  .ForEachDocument([&](DocumentMeta d) {
+                    by_content.insert({{d.content_hi, d.content_lo}, d.key});
+                    auto u = NormalizeUrl(d.url);
+                    if (u.ok()) by_url.insert({u.value(), d.key});
+                    return Status::Ok();
+                  })
+                  .ok());
+  Found expected;
+  for (size_t i = 0; i < table.size(); ++i) {
+    auto [lo, hi] = by_content.equal_range(table.content(i));
+    for (auto it = lo; it != hi; ++it) expected.insert({i, it->second, static_cast<int>(DropReason::kReferenceExact)});
+    if (urls[i].empty()) continue;
+    auto [ulo, uhi] = by_url.equal_range(urls[i]);
+    for (auto it = ulo; it != uhi; ++it) expected.insert({i, it->second, static_cast<int>(DropReason::kUrl)});
+  }
+  // Every document of the generation is in the new crawl with its own text.
+  EXPECT_GE(expected.size(), refs->record(0).documents);
+  EXPECT_EQ(found[0], expected) << "merge";
+  EXPECT_EQ(found[1], expected) << "point lookups";
 }
 
 TEST(ReferenceMergeTest, MergeAndPointJobsWriteIdenticalManifests) {
