@@ -10,9 +10,8 @@ namespace shingleton {
 BucketVerifier::BucketVerifier(const VerifyOptions& options, int num_hashes, SignatureLookup lookup)
     : options_(options), num_hashes_(num_hashes), lookup_(std::move(lookup)) {}
 
-bool BucketVerifier::Check(uint64_t x, uint64_t y, int band, std::vector<Edge>* out) const {
-  const uint32_t* sx = lookup_(x);
-  const uint32_t* sy = lookup_(y);
+bool BucketVerifier::Check(uint64_t x, const uint32_t* sx, uint64_t y, const uint32_t* sy, int band,
+                           std::vector<Edge>* out) const {
   if (!sx || !sy) return false;
   const double sim = EstimateJaccard(sx, sy, num_hashes_);
   if (sim < options_.threshold) return false;
@@ -28,30 +27,33 @@ bool BucketVerifier::Check(uint64_t x, uint64_t y, int band, std::vector<Edge>* 
 size_t BucketVerifier::Verify(int band, const std::vector<uint64_t>& members,
                               std::vector<Edge>* out) const {
   if (members.size() < 2) return 0;
-  if (members.size() <= options_.all_pairs_limit) return VerifyAllPairs(band, members, out);
-  return VerifyWithLeaders(band, members, out);
+  // Each member's signature is looked up once per bucket, not once per pair.
+  std::vector<const uint32_t*> sigs(members.size());
+  for (size_t i = 0; i < members.size(); ++i) sigs[i] = lookup_(members[i]);
+  if (members.size() <= options_.all_pairs_limit) return VerifyAllPairs(band, members, sigs, out);
+  return VerifyWithLeaders(band, members, sigs, out);
 }
 
 size_t BucketVerifier::VerifyAllPairs(int band, const std::vector<uint64_t>& members,
-                                      std::vector<Edge>* out) const {
+                                      const std::vector<const uint32_t*>& sigs, std::vector<Edge>* out) const {
   size_t comparisons = 0;
   for (size_t i = 0; i < members.size(); ++i) {
     for (size_t j = i + 1; j < members.size(); ++j, ++comparisons) {
-      Check(members[i], members[j], band, out);
+      Check(members[i], sigs[i], members[j], sigs[j], band, out);
     }
   }
   return comparisons;
 }
 
 size_t BucketVerifier::VerifyWithLeaders(int band, const std::vector<uint64_t>& members,
-                                         std::vector<Edge>* out) const {
-  std::vector<uint64_t> leaders;
+                                         const std::vector<const uint32_t*>& sigs, std::vector<Edge>* out) const {
+  std::vector<size_t> leaders;  // indices into members
   size_t comparisons = 0;
-  for (uint64_t m : members) {
+  for (size_t m = 0; m < members.size(); ++m) {
     bool joined = false;
-    for (uint64_t leader : leaders) {
+    for (size_t leader : leaders) {
       ++comparisons;
-      joined |= Check(m, leader, band, out);
+      joined |= Check(members[m], sigs[m], members[leader], sigs[leader], band, out);
     }
     if (!joined && leaders.size() < options_.max_leaders) leaders.push_back(m);
   }

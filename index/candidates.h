@@ -44,10 +44,12 @@ class BucketVerifier {
   size_t Verify(int band, const std::vector<uint64_t>& members, std::vector<Edge>* out) const;
 
  private:
-  bool Check(uint64_t x, uint64_t y, int band, std::vector<Edge>* out) const;
-  size_t VerifyAllPairs(int band, const std::vector<uint64_t>& members, std::vector<Edge>* out) const;
+  bool Check(uint64_t x, const uint32_t* sx, uint64_t y, const uint32_t* sy, int band,
+             std::vector<Edge>* out) const;
+  size_t VerifyAllPairs(int band, const std::vector<uint64_t>& members, const std::vector<const uint32_t*>& sigs,
+                        std::vector<Edge>* out) const;
   size_t VerifyWithLeaders(int band, const std::vector<uint64_t>& members,
-                           std::vector<Edge>* out) const;
+                           const std::vector<const uint32_t*>& sigs, std::vector<Edge>* out) const;
 
   VerifyOptions options_;
   int num_hashes_;

@@ -33,6 +33,26 @@ inline uint16_t GetBigEndian16(const char* p) {
 inline void PutFixed32(std::string* out, uint32_t v) {
   for (int i = 0; i < 4; ++i) out->push_back(static_cast<char>(v >> (8 * i)));
 }
+// n values, little-endian (a signature): one copy on little-endian hosts.
+inline void PutFixed32Array(std::string* out, const uint32_t* v, size_t n) {
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__
+  out->append(reinterpret_cast<const char*>(v), 4 * n);
+#else
+  for (size_t i = 0; i < n; ++i) PutFixed32(out, v[i]);
+#endif
+}
+// Reads n little-endian values from p (4 * n bytes; the caller checks the size).
+inline void GetFixed32Array(const char* p, size_t n, uint32_t* out) {
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__
+  std::memcpy(out, p, 4 * n);
+#else
+  for (size_t i = 0; i < n; ++i) {
+    uint32_t v = 0;
+    for (int b = 0; b < 4; ++b) v |= static_cast<uint32_t>(static_cast<unsigned char>(p[4 * i + b])) << (8 * b);
+    out[i] = v;
+  }
+#endif
+}
 inline void PutVarint(std::string* out, uint64_t v) {
   while (v >= 0x80) {
     out->push_back(static_cast<char>(v | 0x80));

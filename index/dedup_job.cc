@@ -12,6 +12,7 @@
 #include "index/index_store.h"
 #include "index/json_writer.h"
 #include "index/manifest.h"
+#include "index/parallel.h"
 #include "index/reference_merge.h"
 #include "index/reference_resolution.h"
 #include "index/url_normalizer.h"
@@ -162,7 +163,7 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
 // exact-duplicate edge; of every document when `all` (point lookups in references
 // look each one up).
 Status LoadSignatures(const IndexStore& store, bool all, const std::vector<uint64_t>& shared_keys,
-                      const std::vector<Edge>& exact_edges, DocTable* table) {
+                      const std::vector<Edge>& exact_edges, int threads, DocTable* table) {
   const int k = table->num_hashes();
   if (all) {
     return store.ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) -> Status {
@@ -182,17 +183,26 @@ Status LoadSignatures(const IndexStore& store, bool all, const std::vector<uint6
   std::set_union(shared_keys.begin(), shared_keys.end(), ends.begin(), ends.end(), std::back_inserter(keys));
   keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
   table->ReserveSignatures(keys.size());
+  // Sorted batches read on `threads` threads, a group at a time, held in order.
   constexpr size_t kChunk = 4096;
-  std::vector<uint64_t> chunk;
-  std::vector<uint32_t> sigs;
-  std::vector<char> found;
-  for (size_t from = 0; from < keys.size(); from += kChunk) {
-    chunk.assign(keys.begin() + from, keys.begin() + std::min(keys.size(), from + kChunk));
-    SHINGLETON_RETURN_IF_ERROR(store.GetSignatures(chunk, &sigs, &found));
-    for (size_t j = 0; j < chunk.size(); ++j) {
-      const int64_t i = table->IndexOf(chunk[j]);
-      if (!found[j] || i < 0) return Status::Corruption("no document or signature for key " + std::to_string(chunk[j]));
-      table->SetSignature(static_cast<size_t>(i), &sigs[j * k]);
+  const size_t chunks = (keys.size() + kChunk - 1) / kChunk, group = 4 * static_cast<size_t>(threads);
+  for (size_t first = 0; first < chunks; first += group) {
+    const size_t count = std::min(group, chunks - first);
+    std::vector<std::vector<uint32_t>> sigs(count);
+    std::vector<std::vector<char>> found(count);
+    SHINGLETON_RETURN_IF_ERROR(ParallelFor(count, threads, [&](size_t c) {
+      const size_t from = (first + c) * kChunk, to = std::min(keys.size(), from + kChunk);
+      return store.GetSignatures(std::vector<uint64_t>(keys.begin() + from, keys.begin() + to), &sigs[c], &found[c]);
+    }));
+    for (size_t c = 0; c < count; ++c) {
+      const size_t from = (first + c) * kChunk;
+      for (size_t j = 0; j < found[c].size(); ++j) {
+        const int64_t i = table->IndexOf(keys[from + j]);
+        if (!found[c][j] || i < 0) {
+          return Status::Corruption("no document or signature for key " + std::to_string(keys[from + j]));
+        }
+        table->SetSignature(static_cast<size_t>(i), &sigs[c][j * k]);
+      }
     }
   }
   return Status::Ok();
@@ -214,24 +224,38 @@ StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const SharedBuckets
   return std::move(scan.edges);
 }
 
-// The best reference match of every document. With the merge, `mergers` (one per
-// generation) were fed every band of the job's postings during the bucket scan.
+// The documents that already have an exact or URL match in a generation, sorted:
+// no near candidate can beat it, so the merge skips them.
+std::vector<uint64_t> SettledDocuments(const DocTable& table, const ReferenceCandidates& candidates) {
+  std::vector<uint64_t> keys;
+  for (size_t i = 0; i < candidates.size(); ++i) {
+    if (!candidates[i].empty()) keys.push_back(table.key(i));
+  }
+  std::sort(keys.begin(), keys.end());
+  return keys;
+}
+
+// The best reference match of every document, given its exact and URL
+// candidates. With the merge, `mergers` (one per generation) were fed every band
+// of the job's postings during the bucket scan.
 StatusOr<std::vector<ReferenceMatch>> MatchReferences(const DedupOptions& o, const ReferenceSet& refs,
                                                       const DocTable& table, const IngestOutput& ingested,
-                                                      std::vector<std::unique_ptr<ReferenceMerger>>* mergers) {
-  ReferenceMatchOptions mo{o.threshold, o.url_revisits, ResolveThreads(o.ingest.threads), o.reference_lookup};
-  ReferenceCandidates candidates(table.size());
+                                                      std::vector<std::unique_ptr<ReferenceMerger>>* mergers,
+                                                      ReferenceCandidates candidates) {
+  const int threads = ResolveThreads(o.ingest.threads);
   if (o.reference_lookup == ReferenceLookup::kPoint) {
-    SHINGLETON_ASSIGN_OR_RETURN(candidates, LookUpNearCandidates(refs, table, o.threshold, mo.threads));
+    SHINGLETON_ASSIGN_OR_RETURN(ReferenceCandidates near, LookUpNearCandidates(refs, table, o.threshold, threads));
+    for (size_t i = 0; i < near.size(); ++i) candidates[i].insert(candidates[i].end(), near[i].begin(), near[i].end());
   }
+  ReferenceCandidates near(table.size());
   for (size_t g = 0; g < mergers->size(); ++g) {
-    SHINGLETON_ASSIGN_OR_RETURN(std::vector<ReferenceHit> hits, (*mergers)[g]->Finish(mo.threads));
-    SHINGLETON_RETURN_IF_ERROR(AddNearHits(table, static_cast<int>(g), hits, &candidates));
+    SHINGLETON_ASSIGN_OR_RETURN(std::vector<ReferenceHit> hits, (*mergers)[g]->Finish(threads));
+    SHINGLETON_RETURN_IF_ERROR(AddNearHits(table, static_cast<int>(g), hits, &near));
     (*mergers)[g].reset();
   }
-  ShareWithCopies(table, ingested.exact_edges, &candidates);
-  SHINGLETON_RETURN_IF_ERROR(AddExactCandidates(refs, table, ingested.normalized_urls, mo, &candidates));
-  return ResolveReferences(refs, candidates, mo.threads);
+  ShareWithCopies(table, ingested.exact_edges, &near);
+  for (size_t i = 0; i < near.size(); ++i) candidates[i].insert(candidates[i].end(), near[i].begin(), near[i].end());
+  return ResolveReferences(refs, candidates, threads);
 }
 
 Status PersistDecisions(IndexStore* store, const std::vector<Decision>& decisions,
@@ -366,10 +390,19 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   // One scan of the job's postings: its shared buckets for verification and, with
   // the reference merge, every band merged with every generation meanwhile.
   const int threads = ResolveThreads(o.ingest.threads);
+  ReferenceCandidates exact_matches;  // exact copies and URL revisits in the references
+  std::vector<uint64_t> settled;
   std::vector<std::unique_ptr<ReferenceMerger>> mergers;
+  if (refs) {
+    exact_matches.resize(table.size());
+    SHINGLETON_RETURN_IF_ERROR(AddExactCandidates(
+        *refs, table, ingested.normalized_urls, {o.threshold, o.url_revisits, threads, o.reference_lookup},
+        &exact_matches));
+    settled = SettledDocuments(table, exact_matches);
+  }
   if (refs && o.reference_lookup == ReferenceLookup::kMerge) {
     for (size_t g = 0; g < refs->size(); ++g) {
-      mergers.push_back(std::make_unique<ReferenceMerger>(refs->store(g), *store, o.threshold));
+      mergers.push_back(std::make_unique<ReferenceMerger>(refs->store(g), *store, o.threshold, &settled));
     }
   }
   BandVisitor visit;
@@ -383,7 +416,7 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   // Point lookups in references look up every document's signature; otherwise
   // only the verified ones are held.
   const bool all_signatures = refs != nullptr && o.reference_lookup == ReferenceLookup::kPoint;
-  SHINGLETON_RETURN_IF_ERROR(LoadSignatures(*store, all_signatures, shared.Keys(), ingested.exact_edges, &table));
+  SHINGLETON_RETURN_IF_ERROR(LoadSignatures(*store, all_signatures, shared.Keys(), ingested.exact_edges, threads, &table));
   SHINGLETON_ASSIGN_OR_RETURN(std::vector<Edge> edges, FindEdges(o, shared, table, &summary));
   shared = SharedBuckets();
   edges.insert(edges.end(), ingested.exact_edges.begin(), ingested.exact_edges.end());
@@ -392,7 +425,8 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   if (refs) {
     report("references");
     const Clock::time_point r = Clock::now();
-    SHINGLETON_ASSIGN_OR_RETURN(matches, MatchReferences(o, *refs, table, ingested, &mergers));
+    SHINGLETON_ASSIGN_OR_RETURN(matches,
+                                MatchReferences(o, *refs, table, ingested, &mergers, std::move(exact_matches)));
     DropEdgesOfMatched(table, matches, &edges);
     summary.seconds_references = SecondsSince(r);
   }

@@ -119,7 +119,7 @@ void WriteBatchBuilder::AddMeta(const DocumentMeta& doc) {
 
 void WriteBatchBuilder::AddSignature(uint64_t key, const uint32_t* sig, int k) {
   value_.clear();
-  for (int i = 0; i < k; ++i) PutFixed32(&value_, sig[i]);
+  PutFixed32Array(&value_, sig, static_cast<size_t>(k));
   batch_->Put(store_->signatures_, Key64(key), value_);
   ++count_;
 }
@@ -265,7 +265,7 @@ Status BulkIndexWriter::AddSignature(uint64_t key, const uint32_t* sig, int k) {
   key_.clear();
   PutBigEndian64(&key_, key);
   value_.clear();
-  for (int i = 0; i < k; ++i) PutFixed32(&value_, sig[i]);
+  PutFixed32Array(&value_, sig, static_cast<size_t>(k));
   return Add(kBulkSignatures, key_, value_);
 }
 
@@ -668,8 +668,7 @@ Status IndexStore::GetSignatures(const std::vector<uint64_t>& keys, std::vector<
     if (statuses[i].IsNotFound()) continue;
     SHINGLETON_RETURN_IF_ERROR(FromRocks(statuses[i], "reading signatures of " + path_));
     if (values[i].size() != 4 * k) return Status::Corruption("signature of bad size in " + path_);
-    Decoder d(std::string_view(values[i].data(), values[i].size()));
-    for (size_t j = 0; j < k; ++j) (*sigs)[i * k + j] = d.Fixed32();
+    GetFixed32Array(values[i].data(), k, &(*sigs)[i * k]);
     (*found)[i] = 1;
   }
   return Status::Ok();
@@ -696,8 +695,7 @@ Status IndexStore::ForEachSignature(
       return Status::Corruption("signature record of bad size in " + path_);
     }
     std::vector<uint32_t> sig(k);
-    Decoder d(std::string_view(it->value().data(), it->value().size()));
-    for (auto& x : sig) x = d.Fixed32();
+    GetFixed32Array(it->value().data(), k, sig.data());
     SHINGLETON_RETURN_IF_ERROR(fn(GetBigEndian64(it->key().data()), std::move(sig)));
   }
   return FromRocks(it->status(), "scanning signatures of " + path_);
@@ -710,6 +708,30 @@ StatusOr<DocumentMeta> IndexStore::GetDocument(uint64_t key) const {
   return DecodeDocument(key, v);
 }
 
+StatusOr<std::vector<DocumentMeta>> IndexStore::GetDocuments(const std::vector<uint64_t>& keys) const {
+  const size_t n = keys.size();
+  std::vector<std::string> key_bytes(n);
+  std::vector<rocksdb::Slice> slices(n);
+  for (size_t i = 0; i < n; ++i) {
+    key_bytes[i] = Key64(keys[i]);
+    slices[i] = key_bytes[i];
+  }
+  std::vector<rocksdb::PinnableSlice> values(n);
+  std::vector<rocksdb::Status> statuses(n);
+  db_->MultiGet(rocksdb::ReadOptions(), docs_, n, slices.data(), values.data(), statuses.data());
+  std::vector<DocumentMeta> docs;
+  docs.reserve(n);
+  for (size_t i = 0; i < n; ++i) {
+    if (statuses[i].IsNotFound()) {
+      return Status::NotFound("no document with key " + std::to_string(keys[i]) + " in " + path_);
+    }
+    SHINGLETON_RETURN_IF_ERROR(FromRocks(statuses[i], "reading documents of " + path_));
+    SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta d, DecodeDocument(keys[i], std::string_view(values[i].data(), values[i].size())));
+    docs.push_back(std::move(d));
+  }
+  return docs;
+}
+
 StatusOr<std::vector<uint32_t>> IndexStore::GetSignature(uint64_t key) const {
   std::string v;
   SHINGLETON_RETURN_IF_ERROR(
@@ -718,8 +740,7 @@ StatusOr<std::vector<uint32_t>> IndexStore::GetSignature(uint64_t key) const {
     return Status::Corruption("signature of size " + std::to_string(v.size()) + " bytes");
   }
   std::vector<uint32_t> sig(scheme_.num_hashes);
-  Decoder d(v);
-  for (auto& x : sig) x = d.Fixed32();
+  GetFixed32Array(v.data(), sig.size(), sig.data());
   return sig;
 }
 
@@ -768,9 +789,8 @@ Status IndexStore::ForEachDocumentRecord(const DocumentRecordFn& fn, bool with_s
     sig.clear();
     if (with_signatures && seek_to(sig_it.get(), doc.key)) {
       if (sig_it->value().size() != 4 * k) return Status::Corruption("signature record of bad size in " + path_);
-      Decoder d(std::string_view(sig_it->value().data(), sig_it->value().size()));
       sig.resize(k);
-      for (auto& x : sig) x = d.Fixed32();
+      GetFixed32Array(sig_it->value().data(), k, sig.data());
     }
     if (seek_to(dec_it.get(), doc.key)) {
       SHINGLETON_ASSIGN_OR_RETURN(

@@ -224,6 +224,9 @@ class IndexStore {
   Status ForEachDocumentRecord(const DocumentRecordFn& fn, bool with_signatures = true) const;
 
   StatusOr<DocumentMeta> GetDocument(uint64_t key) const;
+  // The documents of `keys` in one MultiGet, in the order of `keys`; NotFound names
+  // the first key without one.
+  StatusOr<std::vector<DocumentMeta>> GetDocuments(const std::vector<uint64_t>& keys) const;
   StatusOr<std::vector<uint32_t>> GetSignature(uint64_t key) const;
   StatusOr<Decision> GetDecision(uint64_t key) const;
   // Every stored edge touching `key`.

@@ -55,8 +55,10 @@ Status VerifyPairs(const IndexStore& reference, const IndexStore& job, const std
 
 }  // namespace
 
-ReferenceMerger::ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold)
-    : reference_(reference), job_(job), threshold_(threshold), per_band_(reference.scheme().bands) {}
+ReferenceMerger::ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold,
+                                 const std::vector<uint64_t>* settled)
+    : reference_(reference), job_(job), threshold_(threshold), settled_(settled),
+      per_band_(reference.scheme().bands) {}
 
 Status ReferenceMerger::AddBand(int band, const BandPostings& mine) {
   if (band < 0 || band >= static_cast<int>(per_band_.size())) {
@@ -69,7 +71,9 @@ Status ReferenceMerger::AddBand(int band, const BandPostings& mine) {
       reference_.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& refs) {
         while (j < mine.size() && mine[j].first < bucket) ++j;
         for (size_t i = j; i < mine.size() && mine[i].first == bucket; ++i) {
-          for (uint64_t r : refs) pairs.emplace_back(r, mine[i].second);
+          const uint64_t doc = mine[i].second;
+          if (settled_ && std::binary_search(settled_->begin(), settled_->end(), doc)) continue;
+          for (uint64_t r : refs) pairs.emplace_back(r, doc);
         }
         return Status::Ok();
       }));

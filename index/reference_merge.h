@@ -42,8 +42,11 @@ struct ReferenceHit {
 class ReferenceMerger {
  public:
   // `job` holds the signatures of the job's documents; both stores must outlive
-  // the merger and have the same scheme.
-  ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold);
+  // the merger and have the same scheme. Documents in `settled` (sorted keys; may
+  // be null) already have a better match than any near one (an exact copy or a
+  // URL revisit in a generation): their pairs are neither collected nor verified.
+  ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold,
+                  const std::vector<uint64_t>* settled = nullptr);
   // Merges one band of the job's postings ((bucket, doc) ascending) with the
   // generation's. Distinct bands may be added concurrently; each band once.
   Status AddBand(int band, const BandPostings& job_postings);
@@ -55,6 +58,7 @@ class ReferenceMerger {
   const IndexStore& reference_;
   const IndexStore& job_;
   double threshold_;
+  const std::vector<uint64_t>* settled_;
   std::vector<std::vector<std::pair<uint64_t, uint64_t>>> per_band_;  // (ref, doc), sorted
 };
 

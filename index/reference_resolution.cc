@@ -10,6 +10,39 @@ namespace shingleton {
 
 namespace {
 
+// The order of kinds of match: a URL revisit over an exact copy over a near one.
+int ReasonRank(DropReason r) {
+  switch (r) {
+    case DropReason::kUrl: return 3;
+    case DropReason::kReferenceExact: return 2;
+    case DropReason::kReferenceNear: return 1;
+    default: return 0;
+  }
+}
+
+// Whether a beats b before ids are compared: better kind, then higher similarity,
+// then earlier generation.
+bool Outranks(const ReferenceCandidate& a, const ReferenceCandidate& b) {
+  if (ReasonRank(a.reason) != ReasonRank(b.reason)) return ReasonRank(a.reason) > ReasonRank(b.reason);
+  if (a.similarity != b.similarity) return a.similarity > b.similarity;
+  return a.generation < b.generation;
+}
+
+// The ids of `keys` (sorted) in `store`, in order: MultiGet batches on `threads`.
+StatusOr<std::vector<std::string>> ReadIds(const IndexStore& store, const std::vector<uint64_t>& keys, int threads) {
+  constexpr size_t kBatch = 4096;
+  std::vector<std::string> ids(keys.size());
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor((keys.size() + kBatch - 1) / kBatch, threads, [&](size_t b) -> Status {
+    const size_t from = b * kBatch, to = std::min(keys.size(), from + kBatch);
+    SHINGLETON_ASSIGN_OR_RETURN(
+        std::vector<DocumentMeta> docs,
+        store.GetDocuments(std::vector<uint64_t>(keys.begin() + from, keys.begin() + to)));
+    for (size_t i = from; i < to; ++i) ids[i] = std::move(docs[i - from].id);
+    return Status::Ok();
+  }));
+  return ids;
+}
+
 // Exact-copy candidates of every document from one key-order scan of each
 // generation's content records, merged with the table's content hashes sorted.
 Status MergeExact(const ReferenceSet& refs, const DocTable& table, ReferenceCandidates* out) {
@@ -115,12 +148,50 @@ Status AddExactCandidates(const ReferenceSet& refs, const DocTable& table,
 
 StatusOr<std::vector<ReferenceMatch>> ResolveReferences(const ReferenceSet& refs,
                                                         const ReferenceCandidates& candidates, int threads) {
-  std::vector<ReferenceMatch> matches(candidates.size());
-  SHINGLETON_RETURN_IF_ERROR(ParallelFor(candidates.size(), threads, [&](size_t i) -> Status {
-    if (candidates[i].empty()) return Status::Ok();
-    SHINGLETON_ASSIGN_OR_RETURN(matches[i], refs.Best(candidates[i]));
+  const size_t n = candidates.size();
+  // 1. The finalists of each document: best kind, highest similarity, earliest
+  //    generation (no read needed); their keys, distinct.
+  std::vector<std::vector<ReferenceCandidate>> finalists(n);
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(n, threads, [&](size_t i) -> Status {
+    const ReferenceCandidate* top = nullptr;
+    for (const ReferenceCandidate& c : candidates[i]) {
+      if (c.generation < 0 || c.generation >= static_cast<int>(refs.size()) || ReasonRank(c.reason) == 0) {
+        return Status::InvalidArgument("reference candidate of generation " + std::to_string(c.generation) + " of " +
+                                       std::to_string(refs.size()) + " (reason " + DropReasonName(c.reason) + ")");
+      }
+      if (top == nullptr || Outranks(c, *top)) top = &c;
+    }
+    if (top == nullptr) return Status::Ok();
+    for (const ReferenceCandidate& c : candidates[i]) {
+      if (!Outranks(*top, c)) finalists[i].push_back(c);
+    }
+    std::sort(finalists[i].begin(), finalists[i].end(),
+              [](const ReferenceCandidate& a, const ReferenceCandidate& b) { return a.key < b.key; });
+    finalists[i].erase(std::unique(finalists[i].begin(), finalists[i].end(),
+                                   [](const ReferenceCandidate& a, const ReferenceCandidate& b) { return a.key == b.key; }),
+                       finalists[i].end());
     return Status::Ok();
   }));
+  // 2. The ids of every finalist, by sorted batches of reads per generation.
+  std::vector<std::vector<uint64_t>> keys(refs.size());
+  for (const auto& f : finalists) {
+    for (const ReferenceCandidate& c : f) keys[c.generation].push_back(c.key);
+  }
+  std::vector<std::vector<std::string>> ids(refs.size());
+  for (size_t g = 0; g < refs.size(); ++g) {
+    std::sort(keys[g].begin(), keys[g].end());
+    keys[g].erase(std::unique(keys[g].begin(), keys[g].end()), keys[g].end());
+    SHINGLETON_ASSIGN_OR_RETURN(ids[g], ReadIds(refs.store(static_cast<int>(g)), keys[g], threads));
+  }
+  // 3. Of the finalists, the smallest id.
+  std::vector<ReferenceMatch> matches(n);
+  for (size_t i = 0; i < n; ++i) {
+    for (const ReferenceCandidate& c : finalists[i]) {
+      const auto& k = keys[c.generation];
+      const std::string& id = ids[c.generation][std::lower_bound(k.begin(), k.end(), c.key) - k.begin()];
+      if (!matches[i].found() || id < matches[i].id) matches[i] = {c.generation, c.key, id, c.similarity, c.reason};
+    }
+  }
   return matches;
 }
 

@@ -7,8 +7,9 @@
 //      parts — or LookUpNearCandidates), exact copies and URL revisits
 //      (AddExactCandidates: a key-order merge of content hashes and URLs, or
 //      point lookups);
-//   2. ResolveReferences: the best candidate of each document (URL revisit, then
-//      exact copy, then near; ReferenceSet::Best);
+//   2. ResolveReferences: the best candidate of each document: a URL revisit over
+//      an exact copy over a near one; then the higher similarity, the earlier
+//      generation (on the command line), the smaller id;
 //   3. DropEdgesOfMatched: matched documents leave the crawl's own clusters;
 //   4. ApplyReferenceMatches: each matched document is dropped in favour of its
 //      reference document (reference documents always win).
@@ -67,7 +68,9 @@ Status AddExactCandidates(const ReferenceSet& refs, const DocTable& table,
                           const std::vector<std::string>& normalized_urls, const ReferenceMatchOptions& options,
                           ReferenceCandidates* candidates);
 
-// The best match of every document (ReferenceSet::Best of its candidates).
+// The best match of every document (the order in step 2; candidates in any
+// order, repeats allowed); not found for a document without candidates. The ids
+// of the finalists are read in sorted batches.
 StatusOr<std::vector<ReferenceMatch>> ResolveReferences(const ReferenceSet& refs,
                                                         const ReferenceCandidates& candidates, int threads);
 void DropEdgesOfMatched(const DocTable& table, const std::vector<ReferenceMatch>& matches,

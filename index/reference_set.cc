@@ -35,26 +35,6 @@ std::string UtcNow() {
   return buf;
 }
 
-// The order of kinds of match: a URL revisit over an exact copy over a near one.
-int ReasonRank(DropReason r) {
-  switch (r) {
-    case DropReason::kUrl: return 3;
-    case DropReason::kReferenceExact: return 2;
-    case DropReason::kReferenceNear: return 1;
-    default: return 0;
-  }
-}
-
-// Of two matches of the same kind: higher similarity, then earlier generation,
-// then smaller id.
-bool Better(const ReferenceMatch& a, const ReferenceMatch& b) {
-  if (!b.found()) return a.found();
-  if (!a.found()) return false;
-  if (a.similarity != b.similarity) return a.similarity > b.similarity;
-  if (a.generation != b.generation) return a.generation < b.generation;
-  return a.id < b.id;
-}
-
 }  // namespace
 
 const char* DropReasonName(DropReason r) {
@@ -227,21 +207,6 @@ StatusOr<std::unique_ptr<ReferenceSet>> ReferenceSet::Open(const std::vector<std
     set->generations_.push_back(std::move(g));
   }
   return set;
-}
-
-StatusOr<ReferenceMatch> ReferenceSet::Best(const std::vector<ReferenceCandidate>& candidates) const {
-  ReferenceMatch best;
-  for (const ReferenceCandidate& c : candidates) {
-    if (c.generation < 0 || c.generation >= static_cast<int>(generations_.size())) {
-      return Status::InvalidArgument("reference candidate of generation " + std::to_string(c.generation) +
-                                     " of " + std::to_string(generations_.size()));
-    }
-    if (best.found() && ReasonRank(c.reason) < ReasonRank(best.reason)) continue;
-    SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta ref, generations_[c.generation].store->GetDocument(c.key));
-    ReferenceMatch m{c.generation, c.key, ref.id, c.similarity, c.reason};
-    if (!best.found() || ReasonRank(m.reason) > ReasonRank(best.reason) || Better(m, best)) best = m;
-  }
-  return best;
 }
 
 StatusOr<std::vector<ReferenceCandidate>> ReferenceSet::PointNearCandidates(const uint32_t* sig,

@@ -10,7 +10,7 @@
 // so anyone can check that a generation is unchanged. Generations are opened
 // read-only, without an info log, so no job alters a byte of them.
 //
-// Matching a new document (ReferenceSet::Best), in order: its normalised URL in a
+// Matching a new document (ResolveReferences, reference_resolution.h), in order: its normalised URL in a
 // generation (a re-crawl; only when asked), identical normalised text (content
 // hash), then LSH candidates verified on the signature (>= threshold). The best
 // match wins: highest similarity, then the earlier generation on the command line,
@@ -86,11 +86,6 @@ class ReferenceSet {
   // Opens every generation; each must have the job's scheme (Mismatch otherwise).
   static StatusOr<std::unique_ptr<ReferenceSet>> Open(const std::vector<std::string>& dirs,
                                                       const SketchScheme& scheme);
-
-  // The best of a document's candidates (any order, repeats allowed): a URL revisit
-  // over an exact copy over a near candidate; then the higher similarity, the
-  // earlier generation, the smaller id. Not found when there is none.
-  StatusOr<ReferenceMatch> Best(const std::vector<ReferenceCandidate>& candidates) const;
 
   // Near candidates of one signature by point lookups of its bucket in every band
   // of every generation, verified (>= threshold); sorted by (generation, key).
