@@ -72,6 +72,33 @@ StatusOr<SharedBuckets> ScanBands(const IndexStore& store, int threads, const Ba
   return shared;
 }
 
+Status ReadSignaturesInOrder(const IndexStore& store, const std::vector<uint64_t>& keys, int threads,
+                             const std::function<Status(uint64_t, const uint32_t*)>& fn) {
+  const size_t k = static_cast<size_t>(store.scheme().num_hashes);
+  constexpr size_t kChunk = 4096;
+  const size_t chunks = (keys.size() + kChunk - 1) / kChunk, group = 4 * static_cast<size_t>(std::max(threads, 1));
+  for (size_t first = 0; first < chunks; first += group) {  // a group of batches in memory at a time
+    const size_t count = std::min(group, chunks - first);
+    std::vector<std::vector<uint32_t>> sigs(count);
+    std::vector<std::vector<char>> found(count);
+    SHINGLETON_RETURN_IF_ERROR(ParallelFor(count, threads, [&](size_t c) {
+      const size_t from = (first + c) * kChunk, to = std::min(keys.size(), from + kChunk);
+      return store.GetSignatures(std::vector<uint64_t>(keys.begin() + from, keys.begin() + to), &sigs[c], &found[c]);
+    }));
+    for (size_t c = 0; c < count; ++c) {
+      const size_t from = (first + c) * kChunk;
+      for (size_t j = 0; j < found[c].size(); ++j) {
+        if (!found[c][j]) {
+          return Status::Corruption("no signature for document key " + std::to_string(keys[from + j]) + " in " +
+                                    store.path());
+        }
+        SHINGLETON_RETURN_IF_ERROR(fn(keys[from + j], &sigs[c][j * k]));
+      }
+    }
+  }
+  return Status::Ok();
+}
+
 StatusOr<EdgeScan> VerifySharedBuckets(const SharedBuckets& shared, const VerifyOptions& options, int num_hashes,
                                        const SignatureLookup& lookup, int threads) {
   const size_t bands = shared.members.size();
@@ -95,12 +122,6 @@ StatusOr<EdgeScan> VerifySharedBuckets(const SharedBuckets& shared, const Verify
   out.buckets_checked = shared.buckets();
   out.comparisons = comparisons.load();
   return out;
-}
-
-StatusOr<EdgeScan> VerifyAllBuckets(const IndexStore& store, const VerifyOptions& options,
-                                    const SignatureLookup& lookup, int threads) {
-  SHINGLETON_ASSIGN_OR_RETURN(SharedBuckets shared, ScanBands(store, threads, nullptr));
-  return VerifySharedBuckets(shared, options, store.scheme().num_hashes, lookup, threads);
 }
 
 }  // namespace shingleton

@@ -45,6 +45,12 @@ using BandVisitor = std::function<Status(int band, const BandPostings& postings)
 // One scan of every band; `visit` (may be empty) sees every band's postings.
 StatusOr<SharedBuckets> ScanBands(const IndexStore& store, int threads, const BandVisitor& visit);
 
+// Reads the signatures of `keys` (sorted, distinct) in MultiGet batches on
+// `threads` threads and calls fn(key, signature) for each, in key order, on the
+// calling thread. Corruption names a key without a signature.
+Status ReadSignaturesInOrder(const IndexStore& store, const std::vector<uint64_t>& keys, int threads,
+                             const std::function<Status(uint64_t key, const uint32_t* sig)>& fn);
+
 struct EdgeScan {
   std::vector<Edge> edges;  // distinct pairs, sorted by (a, b), lowest band kept
   uint64_t buckets_checked = 0;  // buckets with >= 2 documents
@@ -54,8 +60,5 @@ struct EdgeScan {
 // Verifies every shared bucket (bands in parallel).
 StatusOr<EdgeScan> VerifySharedBuckets(const SharedBuckets& shared, const VerifyOptions& options, int num_hashes,
                                        const SignatureLookup& lookup, int threads);
-// ScanBands then VerifySharedBuckets.
-StatusOr<EdgeScan> VerifyAllBuckets(const IndexStore& store, const VerifyOptions& options,
-                                    const SignatureLookup& lookup, int threads);
 
 }  // namespace shingleton

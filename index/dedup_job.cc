@@ -164,7 +164,6 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
 // look each one up).
 Status LoadSignatures(const IndexStore& store, bool all, const std::vector<uint64_t>& shared_keys,
                       const std::vector<Edge>& exact_edges, int threads, DocTable* table) {
-  const int k = table->num_hashes();
   if (all) {
     return store.ForEachSignature([&](uint64_t key, std::vector<uint32_t> sig) -> Status {
       const int64_t i = table->IndexOf(key);
@@ -183,29 +182,12 @@ Status LoadSignatures(const IndexStore& store, bool all, const std::vector<uint6
   std::set_union(shared_keys.begin(), shared_keys.end(), ends.begin(), ends.end(), std::back_inserter(keys));
   keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
   table->ReserveSignatures(keys.size());
-  // Sorted batches read on `threads` threads, a group at a time, held in order.
-  constexpr size_t kChunk = 4096;
-  const size_t chunks = (keys.size() + kChunk - 1) / kChunk, group = 4 * static_cast<size_t>(threads);
-  for (size_t first = 0; first < chunks; first += group) {
-    const size_t count = std::min(group, chunks - first);
-    std::vector<std::vector<uint32_t>> sigs(count);
-    std::vector<std::vector<char>> found(count);
-    SHINGLETON_RETURN_IF_ERROR(ParallelFor(count, threads, [&](size_t c) {
-      const size_t from = (first + c) * kChunk, to = std::min(keys.size(), from + kChunk);
-      return store.GetSignatures(std::vector<uint64_t>(keys.begin() + from, keys.begin() + to), &sigs[c], &found[c]);
-    }));
-    for (size_t c = 0; c < count; ++c) {
-      const size_t from = (first + c) * kChunk;
-      for (size_t j = 0; j < found[c].size(); ++j) {
-        const int64_t i = table->IndexOf(keys[from + j]);
-        if (!found[c][j] || i < 0) {
-          return Status::Corruption("no document or signature for key " + std::to_string(keys[from + j]));
-        }
-        table->SetSignature(static_cast<size_t>(i), &sigs[c][j * k]);
-      }
-    }
-  }
-  return Status::Ok();
+  return ReadSignaturesInOrder(store, keys, threads, [table](uint64_t key, const uint32_t* sig) -> Status {
+    const int64_t i = table->IndexOf(key);
+    if (i < 0) return Status::Corruption("a posting names document key " + std::to_string(key) + ", not in the job");
+    table->SetSignature(static_cast<size_t>(i), sig);
+    return Status::Ok();
+  });
 }
 
 StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const SharedBuckets& shared, const DocTable& table,

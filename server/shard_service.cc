@@ -1,5 +1,6 @@
 #include "server/shard_service.h"
 
+#include <algorithm>
 #include <filesystem>
 #include <thread>
 #include <unordered_map>
@@ -17,24 +18,29 @@ namespace {
 
 namespace fs = std::filesystem;
 
-// The signatures of a shard's documents, for verification inside its buckets.
+// The signatures of the documents in a shard's shared buckets, for verification.
 class SignatureMap {
  public:
-  static StatusOr<SignatureMap> Load(const IndexStore& store) {
+  static StatusOr<SignatureMap> Load(const IndexStore& store, const std::vector<uint64_t>& keys, int threads) {
     SignatureMap m;
-    SHINGLETON_RETURN_IF_ERROR(store.ForEachSignature([&m](uint64_t key, std::vector<uint32_t> sig) {
-      m.sigs_.emplace(key, std::move(sig));
+    m.k_ = static_cast<size_t>(store.scheme().num_hashes);
+    m.keys_ = keys;
+    m.sigs_.reserve(keys.size() * m.k_);
+    SHINGLETON_RETURN_IF_ERROR(ReadSignaturesInOrder(store, keys, threads, [&m](uint64_t, const uint32_t* sig) {
+      m.sigs_.insert(m.sigs_.end(), sig, sig + m.k_);
       return Status::Ok();
     }));
     return m;
   }
   const uint32_t* Find(uint64_t key) const {
-    auto it = sigs_.find(key);
-    return it == sigs_.end() ? nullptr : it->second.data();
+    auto it = std::lower_bound(keys_.begin(), keys_.end(), key);
+    return it == keys_.end() || *it != key ? nullptr : &sigs_[static_cast<size_t>(it - keys_.begin()) * k_];
   }
 
  private:
-  std::unordered_map<uint64_t, std::vector<uint32_t>> sigs_;
+  size_t k_ = 0;
+  std::vector<uint64_t> keys_;  // sorted
+  std::vector<uint32_t> sigs_;  // k_ values per key, in key order
 };
 
 }  // namespace
@@ -139,16 +145,17 @@ grpc::ServerUnaryReactor* ShardService::Lookup(grpc::CallbackServerContext* ctx,
 
 StatusOr<std::vector<v1::VerifyResponse>> ShardService::DoVerify(const v1::VerifyRequest& req) {
   SHINGLETON_ASSIGN_OR_RETURN(IndexStore * store, StoreFor(req.job(), ""));
-  SHINGLETON_ASSIGN_OR_RETURN(SignatureMap sigs, SignatureMap::Load(*store));
+  const int threads = ResolveThreads(0);
+  // One scan of the postings; only the shared buckets' signatures are read.
+  SHINGLETON_ASSIGN_OR_RETURN(SharedBuckets shared, ScanBands(*store, threads, nullptr));
+  SHINGLETON_ASSIGN_OR_RETURN(SignatureMap sigs, SignatureMap::Load(*store, shared.Keys(), threads));
   VerifyOptions vo;
   vo.threshold = req.threshold();
   if (req.all_pairs_limit()) vo.all_pairs_limit = req.all_pairs_limit();
   if (req.max_leaders()) vo.max_leaders = req.max_leaders();
   SHINGLETON_ASSIGN_OR_RETURN(
-      EdgeScan scan,
-      VerifyAllBuckets(
-          *store, vo,
-          [&sigs](uint64_t key) { return sigs.Find(key); }, ResolveThreads(0)));
+      EdgeScan scan, VerifySharedBuckets(shared, vo, store->scheme().num_hashes,
+                                         [&sigs](uint64_t key) { return sigs.Find(key); }, threads));
   constexpr size_t kChunk = 20000;
   std::vector<v1::VerifyResponse> chunks(1);
   for (const Edge& edge : scan.edges) {
