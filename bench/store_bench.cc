@@ -484,9 +484,9 @@ void ServiceSuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
     char split[160];
     std::snprintf(split, sizeof split, "; below goal: finalize %.1f s of %.1f s", t_service - t_ingest, t_service);
     r.note += split;
-    r.note += " (each shard copies all its signatures into a hash map to verify its buckets); in ingest every "
-              "signature crosses loopback gRPC twice and is written with a synced WAL on coordinator and shards "
-              "(the embedded job writes sorted SST runs without a WAL), on the same 2 cores as the signing";
+    r.note += "; in ingest every signature crosses loopback gRPC twice and is written with a synced WAL on "
+              "coordinator and shards (the embedded job writes sorted SST runs without a WAL), on the same 2 cores "
+              "as the signing";
   }
   rows->push_back(r);
   rows->push_back({"service_ingest", docs / t_ingest, "docs/s", "embedded_dedup", docs / t_embedded, 0,

@@ -96,9 +96,9 @@ void AddDedupCommand(CLI::App* app, int* rc) {
            if (!l.ok()) throw CLI::ValidationError("--reference-lookup", l.status().message());
            o.reference_lookup = l.value();
          },
-         "How near candidates are found in the references: merge (the crawl's band keys "
-         "sorted and merged with each generation's postings, sequential reads) or point (one "
-         "bucket lookup per document and band; fewer reads for a small crawl against a large "
+         "How candidates are found in the references: merge (the crawl's postings, content "
+         "hashes and URLs merged in key order with each generation's, sequential reads) or "
+         "point (lookups per document and band; fewer reads for a small crawl against a large "
          "generation). Same decisions either way [default: merge]")
       ->check(CLI::IsMember({"merge", "point"}));
   cmd->add_flag("--replace", o.replace, "Replace an existing index and manifests at the outputs");

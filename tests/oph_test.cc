@@ -56,7 +56,9 @@ Accuracy Measure(int k, int probes, int union_size) {
     double sum = 0, sum_sq = 0;
     for (int t = 0; t < kTrials; ++t) {
       const testing::SetPair p = testing::MakeSetPair(j, union_size, &rng);
-      if (t == 0) EXPECT_NEAR(testing::BruteForceJaccard(p.a, p.b), j, 1e-12);  // J by construction
+      if (t == 0) {
+        EXPECT_NEAR(testing::BruteForceJaccard(p.a, p.b), j, 1e-12);  // J by construction
+      }
       const OnePermutationHasher h(k, rng(), probes);
       const std::vector<uint32_t> sa = Signature(h, p.a), sb = Signature(h, p.b);
       const double est = EstimateJaccard(sa.data(), sb.data(), k);

@@ -115,7 +115,9 @@ TEST(ReferenceTest, NewCrawlAgainstFrozenReference) {
     if (d.reference.empty()) continue;
     const double j = ExactJaccardOf(all.texts[index[id]], all.texts[index[d.duplicate_of]]);
     EXPECT_GE(j, 0.7) << id << " vs " << d.duplicate_of;
-    if (d.reason == "reference-exact") EXPECT_DOUBLE_EQ(j, 1.0) << id;
+    if (d.reason == "reference-exact") {
+      EXPECT_DOUBLE_EQ(j, 1.0) << id;
+    }
   }
 }
 
