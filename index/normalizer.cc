@@ -2,7 +2,9 @@
 
 #include <utf8proc.h>
 
+#include <cstdint>
 #include <cstdlib>
+#include <cstring>
 #include <memory>
 
 namespace shingleton {
@@ -20,8 +22,24 @@ bool IsTokenCategory(utf8proc_int32_t cp) {
   }
 }
 
-bool IsAsciiAlnum(unsigned char c) {
-  return (c >= '0' && c <= '9') || (c >= 'a' && c <= 'z') || (c >= 'A' && c <= 'Z');
+// For each byte: its lower-case form if it is an ASCII letter or digit, else 0.
+struct AsciiFold {
+  char fold[256];
+  constexpr AsciiFold() : fold() {
+    for (int c = 0; c < 256; ++c) {
+      fold[c] = (c >= '0' && c <= '9') || (c >= 'a' && c <= 'z') ? static_cast<char>(c)
+                : (c >= 'A' && c <= 'Z')                         ? static_cast<char>(c + 32)
+                                                                 : 0;
+    }
+  }
+};
+constexpr AsciiFold kAsciiFold;
+
+// Whether any of the 8 bytes at p has its high bit set.
+bool AnyHighBit(const char* p) {
+  uint64_t w;
+  std::memcpy(&w, p, 8);
+  return (w & 0x8080808080808080ULL) != 0;
 }
 
 struct FreeDeleter {
@@ -44,11 +62,28 @@ class TokenBuilder {
     }
     out_->text.append(bytes, n);
   }
-  // Append() of ASCII letters and digits, folded to lower case (A-Z -> a-z).
-  void AppendLowerAscii(const char* bytes, size_t n) {
-    Append(bytes, n);
-    char* p = &out_->text[out_->text.size() - n];
-    for (size_t i = 0; i < n; ++i) p[i] = static_cast<char>(p[i] | ((p[i] >= 'A' && p[i] <= 'Z') << 5));
+  // Appends ASCII text: letters and digits folded to lower case (one table lookup
+  // per byte, written in place), every other byte a separator. The output grows by
+  // at most piece.size() + 1 bytes (one space before a token).
+  void AppendAscii(std::string_view piece) {
+    std::string& text = out_->text;
+    size_t n = text.size();
+    text.resize(n + piece.size() + 1);
+    char* p = text.data();
+    for (char ch : piece) {
+      const char c = kAsciiFold.fold[static_cast<unsigned char>(ch)];
+      if (c == 0) {
+        in_token_ = false;
+        continue;
+      }
+      if (!in_token_) {
+        if (n > 0) p[n++] = ' ';
+        out_->starts.push_back(static_cast<uint32_t>(n));
+        in_token_ = true;
+      }
+      p[n++] = c;
+    }
+    text.resize(n);
   }
 
  private:
@@ -62,6 +97,10 @@ Status ValidateUtf8(std::string_view text) {
   const auto* p = reinterpret_cast<const utf8proc_uint8_t*>(text.data());
   size_t i = 0;
   while (i < text.size()) {
+    if (i + 8 <= text.size() && !AnyHighBit(text.data() + i)) {
+      i += 8;
+      continue;
+    }
     if (p[i] < 0x80) { ++i; continue; }
     utf8proc_int32_t cp;
     utf8proc_ssize_t n = utf8proc_iterate(p + i, static_cast<utf8proc_ssize_t>(text.size() - i), &cp);
@@ -86,21 +125,6 @@ namespace {
 
 // ASCII is NFKC-stable, folds case by A-Z -> a-z, and its token characters
 // (categories L*, N*) are exactly [0-9A-Za-z].
-// Whole runs of letters and digits at a time (the per-character loop was the
-// normaliser's main cost on English text).
-void AppendAscii(std::string_view piece, TokenBuilder* tokens) {
-  const size_t n = piece.size();
-  size_t i = 0;
-  while (i < n) {
-    size_t j = i;
-    while (j < n && IsAsciiAlnum(static_cast<unsigned char>(piece[j]))) ++j;
-    if (j > i) tokens->AppendLowerAscii(piece.data() + i, j - i);
-    if (j == n) break;
-    tokens->Separator();
-    i = j + 1;
-  }
-}
-
 void AppendUnicode(std::string_view piece, TokenBuilder* tokens) {
   utf8proc_uint8_t* raw = nullptr;
   const utf8proc_ssize_t n = utf8proc_map(
@@ -125,7 +149,9 @@ void AppendUnicode(std::string_view piece, TokenBuilder* tokens) {
 }
 
 size_t FindNonAscii(std::string_view s, size_t from) {
-  for (size_t i = from; i < s.size(); ++i) {
+  size_t i = from;
+  while (i + 8 <= s.size() && !AnyHighBit(s.data() + i)) i += 8;  // 8 bytes at a time
+  for (; i < s.size(); ++i) {
     if (static_cast<unsigned char>(s[i]) >= 0x80) return i;
   }
   return std::string_view::npos;
@@ -148,15 +174,16 @@ size_t FindAscii(std::string_view s, size_t from) {
 void Normalizer::Normalize(std::string_view input, NormalizedText* out) {
   TokenBuilder tokens(out);
   out->text.reserve(input.size());
+  out->starts.reserve(input.size() / 4);
   size_t i = 0;
   while (i < input.size()) {
     const size_t p = FindNonAscii(input, i);
     if (p == std::string_view::npos) {
-      AppendAscii(input.substr(i), &tokens);
+      tokens.AppendAscii(input.substr(i));
       break;
     }
     const size_t start = p > i ? p - 1 : p;
-    AppendAscii(input.substr(i, start - i), &tokens);
+    tokens.AppendAscii(input.substr(i, start - i));
     const size_t end = FindAscii(input, p);
     AppendUnicode(input.substr(start, end - start), &tokens);
     i = end;
