@@ -13,17 +13,16 @@ using Pair = std::pair<uint64_t, uint64_t>;  // (ref, doc)
 
 constexpr size_t kVerifyBatch = 8192;  // candidate pairs verified per signature batch
 
-// Signatures of `keys` (sorted, distinct) from `store`, num_hashes values each.
+// Signatures of `keys` (sorted, distinct) from `store`, num_hashes values each, in
+// key order (one thread: the caller already runs batches in parallel).
 Status ReadSignatures(const IndexStore& store, const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs) {
-  std::vector<char> found;
-  SHINGLETON_RETURN_IF_ERROR(store.GetSignatures(keys, sigs, &found));
-  for (size_t i = 0; i < keys.size(); ++i) {
-    if (!found[i]) {
-      return Status::Corruption("no signature for document key " + std::to_string(keys[i]) +
-                                " of a posting in " + store.path());
-    }
-  }
-  return Status::Ok();
+  const size_t k = static_cast<size_t>(store.scheme().num_hashes);
+  sigs->clear();
+  sigs->reserve(keys.size() * k);
+  return ReadSignaturesInOrder(store, keys, 1, [&](uint64_t, const uint32_t* sig) {
+    sigs->insert(sigs->end(), sig, sig + k);
+    return Status::Ok();
+  });
 }
 
 size_t Position(const std::vector<uint64_t>& sorted, uint64_t key) {
