@@ -206,15 +206,14 @@ StatusOr<std::vector<Edge>> FindEdges(const DedupOptions& o, const SharedBuckets
   return std::move(scan.edges);
 }
 
-// The documents that already have an exact or URL match in a generation, sorted:
-// no near candidate can beat it, so the merge skips them.
-std::vector<uint64_t> SettledDocuments(const DocTable& table, const ReferenceCandidates& candidates) {
+// The documents that already have an exact or URL match in a generation: no near
+// candidate can beat it, so the merge skips them.
+KeySet SettledDocuments(const DocTable& table, const ReferenceCandidates& candidates) {
   std::vector<uint64_t> keys;
   for (size_t i = 0; i < candidates.size(); ++i) {
     if (!candidates[i].empty()) keys.push_back(table.key(i));
   }
-  std::sort(keys.begin(), keys.end());
-  return keys;
+  return KeySet(keys);
 }
 
 // The best reference match of every document, given its exact and URL
@@ -373,7 +372,7 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
   // the reference merge, every band merged with every generation meanwhile.
   const int threads = ResolveThreads(o.ingest.threads);
   ReferenceCandidates exact_matches;  // exact copies and URL revisits in the references
-  std::vector<uint64_t> settled;
+  KeySet settled;
   std::vector<std::unique_ptr<ReferenceMerger>> mergers;
   if (refs) {
     exact_matches.resize(table.size());
@@ -430,9 +429,12 @@ StatusOr<DedupSummary> RunDedupJob(const DedupOptions& o) {
 
   report("writing");
   t = Clock::now();
-  SHINGLETON_RETURN_IF_ERROR(PersistDecisions(store.get(), decisions, edges));
+  // The index's decisions and the manifests read the same results: written side by
+  // side on 2 or more threads.
   ManifestWriter manifests;
-  SHINGLETON_RETURN_IF_ERROR(manifests.Prepare(o.out_dir, rows));
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(2, threads, [&](size_t part) {
+    return part == 0 ? manifests.Prepare(o.out_dir, rows) : PersistDecisions(store.get(), decisions, edges);
+  }));
   summary.seconds_write = SecondsSince(t);
   summary.seconds_total = SecondsSince(start);
   const std::string summary_json = SummaryJson(o, summary);

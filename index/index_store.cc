@@ -650,28 +650,67 @@ Status IndexStore::BucketMembersOf(const std::vector<BucketRef>& probes,
   return Status::Ok();
 }
 
-Status IndexStore::GetSignatures(const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs,
-                                 std::vector<char>* found) const {
-  const size_t k = static_cast<size_t>(scheme_.num_hashes), n = keys.size();
-  sigs->assign(n * k, 0);
-  found->assign(n, 0);
-  std::vector<char> key_bytes(8 * n);
+// Point reads of a cold index cost a disk seek each (~1 ms on the virtual disks
+// measured here, against ~20 us per 4 KiB block read sequentially), so keys that
+// are dense in their key range are read by one scan of it instead.
+Status IndexStore::ReadInKeyOrder(rocksdb::ColumnFamilyHandle* cf, const std::vector<uint64_t>& keys,
+                                  const std::function<Status(size_t, std::string_view)>& fn) const {
+  const size_t n = keys.size();
+  if (n == 0) return Status::Ok();
+  std::vector<size_t> order(n);  // positions of keys in ascending key order
+  std::iota(order.begin(), order.end(), size_t{0});
+  if (!std::is_sorted(keys.begin(), keys.end())) {
+    std::stable_sort(order.begin(), order.end(), [&keys](size_t a, size_t b) { return keys[a] < keys[b]; });
+  }
+  const uint64_t first = keys[order.front()], last = keys[order.back()];
+  uint64_t entries = 0;
+  db_->GetIntProperty(cf, "rocksdb.estimate-num-keys", &entries);
+  // Doc keys are XXH3 hashes, uniform over 64 bits: the range holds about this many.
+  const double in_range = static_cast<double>(entries) * (static_cast<double>(last - first) / 0x1p64);
+  if (static_cast<double>(n) * kDenseReadRatio >= in_range) {
+    rocksdb::ReadOptions ro;
+    ro.fill_cache = false;
+    ro.readahead_size = 2 << 20;
+    std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, cf));
+    size_t j = 0;  // into order
+    for (it->Seek(Key64(first)); it->Valid() && j < n; it->Next()) {
+      if (it->key().size() != 8) return Status::Corruption("key of bad size in " + path_);
+      const uint64_t key = GetBigEndian64(it->key().data());
+      while (j < n && keys[order[j]] < key) ++j;
+      for (; j < n && keys[order[j]] == key; ++j) {
+        SHINGLETON_RETURN_IF_ERROR(fn(order[j], std::string_view(it->value().data(), it->value().size())));
+      }
+    }
+    return FromRocks(it->status(), "reading " + path_);
+  }
+  std::vector<std::string> key_bytes(n);
   std::vector<rocksdb::Slice> slices(n);
   for (size_t i = 0; i < n; ++i) {
-    for (int b = 0; b < 8; ++b) key_bytes[8 * i + b] = static_cast<char>(keys[i] >> (56 - 8 * b));
-    slices[i] = rocksdb::Slice(&key_bytes[8 * i], 8);
+    key_bytes[i] = Key64(keys[i]);
+    slices[i] = key_bytes[i];
   }
   std::vector<rocksdb::PinnableSlice> values(n);
   std::vector<rocksdb::Status> statuses(n);
-  db_->MultiGet(rocksdb::ReadOptions(), signatures_, n, slices.data(), values.data(), statuses.data());
+  db_->MultiGet(rocksdb::ReadOptions(), cf, n, slices.data(), values.data(), statuses.data());
   for (size_t i = 0; i < n; ++i) {
     if (statuses[i].IsNotFound()) continue;
-    SHINGLETON_RETURN_IF_ERROR(FromRocks(statuses[i], "reading signatures of " + path_));
-    if (values[i].size() != 4 * k) return Status::Corruption("signature of bad size in " + path_);
-    GetFixed32Array(values[i].data(), k, &(*sigs)[i * k]);
-    (*found)[i] = 1;
+    SHINGLETON_RETURN_IF_ERROR(FromRocks(statuses[i], "reading " + path_));
+    SHINGLETON_RETURN_IF_ERROR(fn(i, std::string_view(values[i].data(), values[i].size())));
   }
   return Status::Ok();
+}
+
+Status IndexStore::GetSignatures(const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs,
+                                 std::vector<char>* found) const {
+  const size_t k = static_cast<size_t>(scheme_.num_hashes);
+  sigs->assign(keys.size() * k, 0);
+  found->assign(keys.size(), 0);
+  return ReadInKeyOrder(signatures_, keys, [&](size_t i, std::string_view value) -> Status {
+    if (value.size() != 4 * k) return Status::Corruption("signature of bad size in " + path_);
+    GetFixed32Array(value.data(), k, &(*sigs)[i * k]);
+    (*found)[i] = 1;
+    return Status::Ok();
+  });
 }
 
 Status IndexStore::ForEachDocument(const std::function<Status(DocumentMeta)>& fn) const {
@@ -709,25 +748,15 @@ StatusOr<DocumentMeta> IndexStore::GetDocument(uint64_t key) const {
 }
 
 StatusOr<std::vector<DocumentMeta>> IndexStore::GetDocuments(const std::vector<uint64_t>& keys) const {
-  const size_t n = keys.size();
-  std::vector<std::string> key_bytes(n);
-  std::vector<rocksdb::Slice> slices(n);
-  for (size_t i = 0; i < n; ++i) {
-    key_bytes[i] = Key64(keys[i]);
-    slices[i] = key_bytes[i];
-  }
-  std::vector<rocksdb::PinnableSlice> values(n);
-  std::vector<rocksdb::Status> statuses(n);
-  db_->MultiGet(rocksdb::ReadOptions(), docs_, n, slices.data(), values.data(), statuses.data());
-  std::vector<DocumentMeta> docs;
-  docs.reserve(n);
-  for (size_t i = 0; i < n; ++i) {
-    if (statuses[i].IsNotFound()) {
-      return Status::NotFound("no document with key " + std::to_string(keys[i]) + " in " + path_);
-    }
-    SHINGLETON_RETURN_IF_ERROR(FromRocks(statuses[i], "reading documents of " + path_));
-    SHINGLETON_ASSIGN_OR_RETURN(DocumentMeta d, DecodeDocument(keys[i], std::string_view(values[i].data(), values[i].size())));
-    docs.push_back(std::move(d));
+  std::vector<DocumentMeta> docs(keys.size());
+  std::vector<char> found(keys.size(), 0);
+  SHINGLETON_RETURN_IF_ERROR(ReadInKeyOrder(docs_, keys, [&](size_t i, std::string_view value) -> Status {
+    SHINGLETON_ASSIGN_OR_RETURN(docs[i], DecodeDocument(keys[i], value));
+    found[i] = 1;
+    return Status::Ok();
+  }));
+  for (size_t i = 0; i < keys.size(); ++i) {
+    if (!found[i]) return Status::NotFound("no document with key " + std::to_string(keys[i]) + " in " + path_);
   }
   return docs;
 }

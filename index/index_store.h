@@ -209,8 +209,9 @@ class IndexStore {
   // keys of probes[i], ascending.
   Status BucketMembersOf(const std::vector<BucketRef>& probes,
                          std::vector<std::vector<uint64_t>>* out) const;
-  // The signatures of `keys` in one MultiGet: *sigs gets keys.size() x k values (zeros
-  // for a missing key), (*found)[i] says whether keys[i] has one.
+  // The signatures of `keys` (any order; sorted is cheapest): *sigs gets
+  // keys.size() x k values (zeros for a missing key), (*found)[i] says whether keys[i]
+  // has one. Read as ReadInKeyOrder says.
   Status GetSignatures(const std::vector<uint64_t>& keys, std::vector<uint32_t>* sigs,
                        std::vector<char>* found) const;
   // Calls fn for every stored document (key order) / signature (key order).
@@ -224,8 +225,8 @@ class IndexStore {
   Status ForEachDocumentRecord(const DocumentRecordFn& fn, bool with_signatures = true) const;
 
   StatusOr<DocumentMeta> GetDocument(uint64_t key) const;
-  // The documents of `keys` in one MultiGet, in the order of `keys`; NotFound names
-  // the first key without one.
+  // The documents of `keys` (any order; sorted is cheapest), in that order;
+  // NotFound names the first key without one. Read as ReadInKeyOrder says.
   StatusOr<std::vector<DocumentMeta>> GetDocuments(const std::vector<uint64_t>& keys) const;
   StatusOr<std::vector<uint32_t>> GetSignature(uint64_t key) const;
   StatusOr<Decision> GetDecision(uint64_t key) const;
@@ -248,6 +249,15 @@ class IndexStore {
   friend class WriteBatchBuilder;
   friend class BulkIndexWriter;
   IndexStore() = default;
+  // Keys read by a scan when at least 1 in kDenseReadRatio entries of their key range
+  // is wanted, else by one MultiGet.
+  static constexpr double kDenseReadRatio = 32;
+  // Calls fn(i, value) for every keys[i] present in the doc-keyed family `cf` (keys in
+  // any order, repeats allowed). Sparse keys are read by one MultiGet; dense ones (see
+  // kDenseReadRatio) by one sequential scan of their key range with readahead, without
+  // filling the block cache, calling fn in key order.
+  Status ReadInKeyOrder(rocksdb::ColumnFamilyHandle* cf, const std::vector<uint64_t>& keys,
+                        const std::function<Status(size_t, std::string_view)>& fn) const;
   static StatusOr<std::unique_ptr<IndexStore>> OpenInternal(const std::string& path, bool create,
                                                             const StoreOptions& options);
   Status CheckLayoutAndScheme(const SketchScheme* expected);

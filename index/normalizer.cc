@@ -63,27 +63,37 @@ class TokenBuilder {
     out_->text.append(bytes, n);
   }
   // Appends ASCII text: letters and digits folded to lower case (one table lookup
-  // per byte, written in place), every other byte a separator. The output grows by
-  // at most piece.size() + 1 bytes (one space before a token).
+  // per byte), every other byte a separator. Branch-free: every byte writes a space
+  // and its folded form at the end of the text and a start offset at the end of the
+  // starts, and the counts advance only by what is real (a space before a token
+  // that is not the first, a token byte, a token start), so token boundaries cost
+  // no mispredicted branch.
   void AppendAscii(std::string_view piece) {
     std::string& text = out_->text;
-    size_t n = text.size();
-    text.resize(n + piece.size() + 1);
+    std::vector<uint32_t>& starts = out_->starts;
+    size_t n = text.size(), m = starts.size();
+    // Bounds: the text grows by at most piece.size() + 1 (one space before a token)
+    // and is written one byte past that; a piece holds at most size/2 + 1 token
+    // starts (they are separated), and starts is written one entry past them.
+    text.resize(n + piece.size() + 2);
+    starts.resize(m + piece.size() / 2 + 2);
     char* p = text.data();
+    uint32_t* st = starts.data();
+    uint32_t in = in_token_, any = n > 0;  // inside a token; the text holds one already
     for (char ch : piece) {
       const char c = kAsciiFold.fold[static_cast<unsigned char>(ch)];
-      if (c == 0) {
-        in_token_ = false;
-        continue;
-      }
-      if (!in_token_) {
-        if (n > 0) p[n++] = ' ';
-        out_->starts.push_back(static_cast<uint32_t>(n));
-        in_token_ = true;
-      }
-      p[n++] = c;
+      const uint32_t tok = c != 0, start = tok & ~in, space = start & any;
+      p[n] = ' ';
+      p[n + space] = c;
+      st[m] = static_cast<uint32_t>(n + space);
+      n += space + tok;
+      m += start;
+      any |= tok;
+      in = tok;
     }
     text.resize(n);
+    starts.resize(m);
+    in_token_ = in != 0;
   }
 
  private:

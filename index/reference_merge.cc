@@ -55,7 +55,7 @@ Status VerifyPairs(const IndexStore& reference, const IndexStore& job, const std
 }  // namespace
 
 ReferenceMerger::ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold,
-                                 const std::vector<uint64_t>* settled)
+                                 const KeySet* settled)
     : reference_(reference), job_(job), threshold_(threshold), settled_(settled),
       per_band_(reference.scheme().bands) {}
 
@@ -71,7 +71,7 @@ Status ReferenceMerger::AddBand(int band, const BandPostings& mine) {
         while (j < mine.size() && mine[j].first < bucket) ++j;
         for (size_t i = j; i < mine.size() && mine[i].first == bucket; ++i) {
           const uint64_t doc = mine[i].second;
-          if (settled_ && std::binary_search(settled_->begin(), settled_->end(), doc)) continue;
+          if (settled_ && settled_->contains(doc)) continue;
           for (uint64_t r : refs) pairs.emplace_back(r, doc);
         }
         return Status::Ok();

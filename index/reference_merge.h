@@ -26,6 +26,7 @@
 
 #include "index/bucket_scan.h"
 #include "index/index_store.h"
+#include "index/key_set.h"
 #include "index/status.h"
 
 namespace shingleton {
@@ -42,11 +43,10 @@ struct ReferenceHit {
 class ReferenceMerger {
  public:
   // `job` holds the signatures of the job's documents; both stores must outlive
-  // the merger and have the same scheme. Documents in `settled` (sorted keys; may
-  // be null) already have a better match than any near one (an exact copy or a
+  // the merger and have the same scheme. Documents in `settled` (may be null) already have a better match than any near one (an exact copy or a
   // URL revisit in a generation): their pairs are neither collected nor verified.
   ReferenceMerger(const IndexStore& reference, const IndexStore& job, double threshold,
-                  const std::vector<uint64_t>* settled = nullptr);
+                  const KeySet* settled = nullptr);
   // Merges one band of the job's postings ((bucket, doc) ascending) with the
   // generation's. Distinct bands may be added concurrently; each band once.
   Status AddBand(int band, const BandPostings& job_postings);
@@ -58,7 +58,7 @@ class ReferenceMerger {
   const IndexStore& reference_;
   const IndexStore& job_;
   double threshold_;
-  const std::vector<uint64_t>* settled_;
+  const KeySet* settled_;
   std::vector<std::vector<std::pair<uint64_t, uint64_t>>> per_band_;  // (ref, doc), sorted
 };
 

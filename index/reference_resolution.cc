@@ -141,8 +141,15 @@ Status AddExactCandidates(const ReferenceSet& refs, const DocTable& table,
       return refs.PointExactCandidates(table.doc(i), urls ? normalized_urls[i] : kNoUrl, urls, &(*candidates)[i]);
     });
   }
-  SHINGLETON_RETURN_IF_ERROR(MergeExact(refs, table, candidates));
-  if (urls) SHINGLETON_RETURN_IF_ERROR(MergeUrls(refs, normalized_urls, candidates));
+  // The two merges side by side (on 2 or more threads); URL candidates then follow
+  // the exact ones, as if run in turn.
+  ReferenceCandidates by_url(urls ? table.size() : 0);
+  SHINGLETON_RETURN_IF_ERROR(ParallelFor(urls ? 2 : 1, o.threads, [&](size_t part) {
+    return part == 0 ? MergeExact(refs, table, candidates) : MergeUrls(refs, normalized_urls, &by_url);
+  }));
+  for (size_t i = 0; i < by_url.size(); ++i) {
+    (*candidates)[i].insert((*candidates)[i].end(), by_url[i].begin(), by_url[i].end());
+  }
   return Status::Ok();
 }
 

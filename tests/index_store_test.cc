@@ -241,5 +241,60 @@ TEST(IndexStoreTest, BulkRunsEqualWriteBatchesAndBatchedReadsEqualPointReads) {
   EXPECT_EQ(got, want);
 }
 
+// Batched reads take one of two routes by how dense the keys are in their key range
+// (IndexStore::ReadInKeyOrder): a sequential scan or one MultiGet. Both must return,
+// per key, what a point read of that key returns (the definition), whatever the key
+// order, with repeats and with missing keys.
+TEST(IndexStoreTest, DenseAndSparseBatchedReadsEqualPointReads) {
+  TempDir dir;
+  const SketchScheme scheme = SmallScheme();
+  auto store = IndexStore::Create(dir.File("idx"), scheme);
+  ASSERT_TRUE(store.ok());
+  WriteBatchBuilder batch(store->get());
+  std::vector<uint64_t> all;
+  for (uint32_t i = 0; i < 3000; ++i) {
+    const DocumentMeta d = Doc("d" + std::to_string(i), i);
+    uint32_t sig[8];
+    for (uint32_t j = 0; j < 8; ++j) sig[j] = i * 8 + j;
+    const uint64_t buckets[2] = {i, i};
+    batch.AddDocument(d, sig, 8, buckets);
+    all.push_back(d.key);
+  }
+  ASSERT_TRUE(store.value()->Write(&batch).ok());
+  ASSERT_TRUE(store.value()->Flush().ok());
+  const IndexStore& s = *store.value();
+  // Dense: every third document (1 in 3 of the range, above 1 in kDenseReadRatio),
+  // unsorted, one repeated, two absent keys. Sparse: 8 keys spread over the whole
+  // key range of 3000 documents (1 in 375).
+  std::vector<uint64_t> dense;
+  for (size_t i = 0; i < all.size(); i += 3) dense.push_back(all[i]);
+  dense.push_back(all[6]);
+  dense.push_back(DocKey("nobody"));
+  dense.push_back(DocKey("no one either"));
+  std::vector<uint64_t> sparse(all.begin(), all.begin() + 8);
+  sparse.push_back(DocKey("nobody"));
+  for (const std::vector<uint64_t>* keys : {&dense, &sparse}) {
+    std::vector<uint32_t> sigs;
+    std::vector<char> found;
+    ASSERT_TRUE(s.GetSignatures(*keys, &sigs, &found).ok());
+    ASSERT_EQ(found.size(), keys->size());
+    for (size_t i = 0; i < keys->size(); ++i) {
+      auto one = s.GetSignature((*keys)[i]);
+      ASSERT_EQ(found[i] != 0, one.ok()) << i;
+      if (one.ok()) EXPECT_EQ(std::vector<uint32_t>(sigs.begin() + 8 * i, sigs.begin() + 8 * i + 8), one.value());
+    }
+    std::vector<uint64_t> present;
+    for (size_t i = 0; i < keys->size(); ++i) {
+      if (found[i]) present.push_back((*keys)[i]);
+    }
+    auto docs = s.GetDocuments(present);
+    ASSERT_TRUE(docs.ok()) << docs.status().ToString();
+    for (size_t i = 0; i < present.size(); ++i) {
+      EXPECT_EQ(docs.value()[i].id, s.GetDocument(present[i]).value().id);
+    }
+    EXPECT_EQ(s.GetDocuments(*keys).status().code(), Status::Code::kNotFound);
+  }
+}
+
 }  // namespace
 }  // namespace shingleton

@@ -14,6 +14,7 @@
 
 #include "index/bands.h"
 #include "index/dedup_job.h"
+#include "index/key_set.h"
 #include "index/minhash.h"
 #include "index/partition.h"
 #include "index/reference_merge.h"
@@ -68,6 +69,26 @@ std::map<uint64_t, std::vector<uint32_t>> AllSignatures(const IndexStore& store)
 }
 
 using Hit = std::tuple<uint64_t, uint64_t, float>;  // doc, ref, similarity
+
+// KeySet (the merge's set of settled documents) against std::set, the definition of
+// membership: keys of every spread (hashes, small integers, 0, the largest value),
+// with repeats, tested present and absent.
+TEST(ReferenceMergeTest, KeySetHoldsExactlyItsKeys) {
+  std::vector<uint64_t> keys = {0, 1, 2, UINT64_MAX, 1, 0};
+  uint64_t state = 7;
+  for (int i = 0; i < 5000; ++i) keys.push_back(SplitMix64(&state));
+  for (uint64_t i = 100; i < 1100; ++i) keys.push_back(i << 20);  // clustered, not hash-like
+  const std::set<uint64_t> want(keys.begin(), keys.end());
+  const KeySet set(keys);
+  EXPECT_EQ(set.size(), want.size());
+  for (uint64_t k : want) EXPECT_TRUE(set.contains(k)) << k;
+  for (int i = 0; i < 20000; ++i) {
+    const uint64_t probe = i % 2 ? SplitMix64(&state) : static_cast<uint64_t>(i) << 19;
+    EXPECT_EQ(set.contains(probe), want.count(probe) == 1) << probe;
+  }
+  EXPECT_FALSE(KeySet().contains(0));
+  EXPECT_FALSE(KeySet().contains(42));
+}
 
 TEST(ReferenceMergeTest, MergeAndPointLookupsFindExactlyTheCandidatesByDefinition) {
   TempDir dir;
