@@ -308,9 +308,13 @@ Status BulkIndexWriter::WriteRun(int family, Run* run_ptr, uint64_t number) {
   rocksdb::Options options(rocksdb::DBOptions(), FamilyOptions(name, true));
   rocksdb::SstFileWriter writer(rocksdb::EnvOptions(), options, handle);
   SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Open(file), "creating " + file));
+  // Keys with different 16-byte heads differ: the bytes are compared only on equal heads.
+  auto same_key = [&](const Run::Entry& x, const Run::Entry& y) {
+    return x.head[0] == y.head[0] && x.head[1] == y.head[1] && key_of(x) == key_of(y);
+  };
   for (size_t i = 0; i < run.entries.size(); ++i) {
     const Run::Entry& e = run.entries[i];
-    if (i + 1 < run.entries.size() && key_of(run.entries[i + 1]) == key_of(e)) continue;
+    if (i + 1 < run.entries.size() && same_key(run.entries[i + 1], e)) continue;
     rocksdb::Slice key(base + e.offset, e.key_size), value(base + e.offset + e.key_size, e.value_size);
     SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Put(key, value), "writing " + file));
   }

@@ -13,8 +13,43 @@ namespace shingleton {
 namespace HWY_NAMESPACE {
 namespace hn = hwy::HWY_NAMESPACE;
 
-// One vector of N hash functions at a time; the inner loop runs over the shingles
-// so that the parameters and the running minima stay in registers.
+#if HWY_TARGET != HWY_SCALAR
+// The parameters of one vector of hash functions, split for MulEven (which
+// multiplies the even 32-bit lanes): the odd lanes' a_lo and b_lo moved down.
+template <class D>
+struct HashLanes {
+  using V = hn::Vec<D>;
+  using V64 = hn::Vec<hn::Repartition<uint64_t, D>>;
+  V a_lo, a_lo_odd, a_hi, b_hi;
+  V64 b_lo_even, b_lo_odd;
+
+  HashLanes(D d, const Ms32Params& p, size_t i) {
+    const hn::Repartition<uint64_t, D> d64;
+    a_lo = hn::LoadU(d, p.a_lo + i);
+    a_lo_odd = hn::BitCast(d, hn::ShiftRight<32>(hn::BitCast(d64, a_lo)));
+    a_hi = hn::LoadU(d, p.a_hi + i);
+    b_hi = hn::LoadU(d, p.b_hi + i);
+    const auto b_lo = hn::BitCast(d64, hn::LoadU(d, p.b_lo + i));
+    b_lo_even = hn::And(b_lo, hn::Set(d64, 0xFFFFFFFFULL));
+    b_lo_odd = hn::ShiftRight<32>(b_lo);
+  }
+
+  // h(x) of every lane for the broadcast halves xl, xh of one shingle hash.
+  HWY_INLINE V Hash(D d, V xl, V xh) const {
+    const auto low_even = hn::Add(hn::MulEven(a_lo, xl), b_lo_even);
+    const auto low_odd = hn::Add(hn::MulEven(a_lo_odd, xl), b_lo_odd);
+    // Carry word of a_lo*x_lo + b_lo: the high half of each 64-bit product,
+    // already in the odd lane for odd functions, shifted down for even ones.
+    const auto carry = hn::OddEven(hn::BitCast(d, low_odd), hn::BitCast(d, hn::ShiftRight<32>(low_even)));
+    const auto cross = hn::Add(hn::Mul(a_hi, xl), hn::Mul(a_lo, xh));
+    return hn::Add(cross, hn::Add(b_hi, carry));
+  }
+};
+#endif
+
+// Two vectors of hash functions at a time (then one), the inner loop over the
+// shingles, so that the parameters and running minima stay in registers and each
+// shingle's broadcast serves both vectors.
 // Returns the number of functions updated (whole vectors); the caller does the rest.
 size_t Ms32MinUpdateVectors(const Ms32Params& p, const uint32_t* x_lo, const uint32_t* x_hi,
                             size_t n, uint32_t* sig) {
@@ -22,32 +57,25 @@ size_t Ms32MinUpdateVectors(const Ms32Params& p, const uint32_t* x_lo, const uin
   return 0;  // one lane cannot hold 64-bit products; the caller's scalar code does all
 #else
   const hn::ScalableTag<uint32_t> d;
-  const hn::Repartition<uint64_t, decltype(d)> d64;
   const size_t lanes = hn::Lanes(d);
-  const auto low_half = hn::Set(d64, 0xFFFFFFFFULL);
   size_t i = 0;
-  for (; i + lanes <= p.k; i += lanes) {
-    const auto a_lo = hn::LoadU(d, p.a_lo + i);
-    // MulEven multiplies the even 32-bit lanes; the odd ones are moved down first.
-    const auto a_lo_odd = hn::BitCast(d, hn::ShiftRight<32>(hn::BitCast(d64, a_lo)));
-    const auto a_hi = hn::LoadU(d, p.a_hi + i);
-    const auto b_lo = hn::BitCast(d64, hn::LoadU(d, p.b_lo + i));
-    const auto b_lo_even = hn::And(b_lo, low_half);
-    const auto b_lo_odd = hn::ShiftRight<32>(b_lo);
-    const auto b_hi = hn::LoadU(d, p.b_hi + i);
-    auto m = hn::LoadU(d, sig + i);
+  for (; i + 2 * lanes <= p.k; i += 2 * lanes) {
+    const HashLanes<decltype(d)> f0(d, p, i), f1(d, p, i + lanes);
+    auto m0 = hn::LoadU(d, sig + i);
+    auto m1 = hn::LoadU(d, sig + i + lanes);
     for (size_t j = 0; j < n; ++j) {
       const auto xl = hn::Set(d, x_lo[j]);
       const auto xh = hn::Set(d, x_hi[j]);
-      const auto low_even = hn::Add(hn::MulEven(a_lo, xl), b_lo_even);
-      const auto low_odd = hn::Add(hn::MulEven(a_lo_odd, xl), b_lo_odd);
-      // Carry word of a_lo*x_lo + b_lo: the high half of each 64-bit product,
-      // already in the odd lane for odd functions, shifted down for even ones.
-      const auto carry =
-          hn::OddEven(hn::BitCast(d, low_odd), hn::BitCast(d, hn::ShiftRight<32>(low_even)));
-      const auto cross = hn::Add(hn::Mul(a_hi, xl), hn::Mul(a_lo, xh));
-      m = hn::Min(m, hn::Add(cross, hn::Add(b_hi, carry)));
+      m0 = hn::Min(m0, f0.Hash(d, xl, xh));
+      m1 = hn::Min(m1, f1.Hash(d, xl, xh));
     }
+    hn::StoreU(m0, d, sig + i);
+    hn::StoreU(m1, d, sig + i + lanes);
+  }
+  for (; i + lanes <= p.k; i += lanes) {
+    const HashLanes<decltype(d)> f(d, p, i);
+    auto m = hn::LoadU(d, sig + i);
+    for (size_t j = 0; j < n; ++j) m = hn::Min(m, f.Hash(d, hn::Set(d, x_lo[j]), hn::Set(d, x_hi[j])));
     hn::StoreU(m, d, sig + i);
   }
   return i;
