@@ -10,11 +10,7 @@ namespace shingleton {
 
 StatusOr<BandPostings> ReadBandPostings(const IndexStore& store, int band) {
   BandPostings postings;
-  SHINGLETON_RETURN_IF_ERROR(
-      store.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& docs) {
-        for (uint64_t d : docs) postings.emplace_back(bucket, d);
-        return Status::Ok();
-      }));
+  SHINGLETON_RETURN_IF_ERROR(store.ReadBand(band, &postings));
   return postings;
 }
 

@@ -489,24 +489,51 @@ Status IndexStore::Flush() {
   return FromRocks(db_->Flush(fo, handles_), "flushing index " + path_);
 }
 
-Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) const {
-  std::string lo, hi;
+namespace {
+
+// An iterator over one band of the postings, positioned at its first posting:
+// sequential (readahead, no block cache fill), across buckets.
+std::unique_ptr<rocksdb::Iterator> ScanBand(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* postings, int band,
+                                            std::string* upper_key, rocksdb::Slice* upper) {
+  std::string lo;
   PutBigEndian16(&lo, static_cast<uint16_t>(band));
-  PutBigEndian16(&hi, static_cast<uint16_t>(band + 1));
+  PutBigEndian16(upper_key, static_cast<uint16_t>(band + 1));
+  *upper = rocksdb::Slice(*upper_key);
   rocksdb::ReadOptions ro;
-  rocksdb::Slice upper(hi);
-  if (band + 1 <= 0xFFFF) ro.iterate_upper_bound = &upper;
+  if (band + 1 <= 0xFFFF) ro.iterate_upper_bound = upper;
   ro.fill_cache = false;
   ro.readahead_size = 2 << 20;
   ro.total_order_seek = true;  // a scan across buckets, not one prefix
-  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
+  std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(ro, postings));
+  it->Seek(lo);
+  return it;
+}
+
+}  // namespace
+
+Status IndexStore::ReadBand(int band, std::vector<std::pair<uint64_t, uint64_t>>* out) const {
+  std::string upper_key;
+  rocksdb::Slice upper;
+  auto it = ScanBand(db_.get(), postings_, band, &upper_key, &upper);
+  for (; it->Valid(); it->Next()) {
+    const rocksdb::Slice k = it->key();
+    if (k.size() != 18) return Status::Corruption("posting key of size " + std::to_string(k.size()));
+    out->emplace_back(GetBigEndian64(k.data() + 2), GetBigEndian64(k.data() + 10));
+  }
+  return FromRocks(it->status(), "scanning postings of " + path_);
+}
+
+Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) const {
+  std::string upper_key;
+  rocksdb::Slice upper;
+  auto it = ScanBand(db_.get(), postings_, band, &upper_key, &upper);
   std::vector<uint64_t> members;
   uint64_t current = 0;
   auto emit = [&]() -> Status {
     if (members.size() >= min_size) return fn(band, current, members);
     return Status::Ok();
   };
-  for (it->Seek(lo); it->Valid(); it->Next()) {
+  for (; it->Valid(); it->Next()) {
     rocksdb::Slice k = it->key();
     if (k.size() != 18) return Status::Corruption("posting key of size " + std::to_string(k.size()));
     uint64_t bucket = GetBigEndian64(k.data() + 2);

@@ -65,17 +65,28 @@ Status ReferenceMerger::AddBand(int band, const BandPostings& mine) {
   }
   std::vector<Pair>& pairs = per_band_[band];
   if (mine.empty()) return Status::Ok();
-  size_t j = 0;
-  SHINGLETON_RETURN_IF_ERROR(
-      reference_.ForEachBucket(band, 1, [&](int, uint64_t bucket, const std::vector<uint64_t>& refs) {
-        while (j < mine.size() && mine[j].first < bucket) ++j;
-        for (size_t i = j; i < mine.size() && mine[i].first == bucket; ++i) {
-          const uint64_t doc = mine[i].second;
-          if (settled_ && settled_->contains(doc)) continue;
-          for (uint64_t r : refs) pairs.emplace_back(r, doc);
-        }
-        return Status::Ok();
-      }));
+  SHINGLETON_ASSIGN_OR_RETURN(const BandPostings theirs, ReadBandPostings(reference_, band));
+  // Both sorted by bucket: every bucket present in both gives its (ref, doc) pairs.
+  size_t i = 0, j = 0;
+  while (i < mine.size() && j < theirs.size()) {
+    const uint64_t bucket = mine[i].first;
+    if (bucket < theirs[j].first) {
+      ++i;
+      continue;
+    }
+    if (theirs[j].first < bucket) {
+      ++j;
+      continue;
+    }
+    size_t end = j;
+    while (end < theirs.size() && theirs[end].first == bucket) ++end;
+    for (; i < mine.size() && mine[i].first == bucket; ++i) {
+      const uint64_t doc = mine[i].second;
+      if (settled_ && settled_->contains(doc)) continue;
+      for (size_t r = j; r < end; ++r) pairs.emplace_back(theirs[r].second, doc);
+    }
+    j = end;
+  }
   std::sort(pairs.begin(), pairs.end());  // distinct: one bucket per document and band
   return Status::Ok();
 }
