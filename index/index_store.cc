@@ -124,6 +124,11 @@ void WriteBatchBuilder::AddSignature(uint64_t key, const uint32_t* sig, int k) {
   ++count_;
 }
 
+void WriteBatchBuilder::AddPackedSignature(uint64_t key, std::string_view packed) {
+  batch_->Put(store_->signatures_, Key64(key), rocksdb::Slice(packed.data(), packed.size()));
+  ++count_;
+}
+
 void WriteBatchBuilder::AddPosting(int band, uint64_t bucket, uint64_t key) {
   key_.clear();
   PutBigEndian16(&key_, static_cast<uint16_t>(band));

@@ -27,6 +27,7 @@
 #include <functional>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <thread>
 #include <vector>
 
@@ -72,6 +73,9 @@ class WriteBatchBuilder {
   // signatures of their documents; a coordinator stores metadata and signatures.
   void AddMeta(const DocumentMeta& doc);
   void AddSignature(uint64_t key, const uint32_t* sig, int k);
+  // The same from the wire form (index/signature_codec.h, 4k bytes little-endian),
+  // which is also the stored form: no unpacking. REQUIRES: packed.size() == 4k.
+  void AddPackedSignature(uint64_t key, std::string_view packed);
   void AddPosting(int band, uint64_t bucket, uint64_t key);
   // Exact-content and URL lookups (reference generations use them).
   void AddContent(const DocumentMeta& doc);
