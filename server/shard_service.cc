@@ -82,7 +82,8 @@ Status ShardService::DoWrite(const v1::WriteRequest& req, v1::WriteResponse* res
   SHINGLETON_ASSIGN_OR_RETURN(IndexStore * store, StoreFor(req.job(), req.scheme()));
   const int k = store->scheme().num_hashes;
   // Entries go into the batch in key order, so that each memtable insert starts
-  // next to the previous one (about a third of a shard's write cost when random).
+  // from the previous one (the store's insert hint): in the service bench a shard's
+  // CPU fell from about 1.5 s to 1.0 s, most of it skip-list search.
   std::vector<std::pair<uint64_t, const std::string*>> sigs;
   sigs.reserve(req.signatures_size());
   for (const auto& [key, bytes] : req.signatures()) {
