@@ -82,11 +82,17 @@ class WriteBatchBuilder {
   void AddUrl(const std::string& normalized_url, uint64_t key);
   void AddDecision(const Decision& d);
   void AddEdge(const Edge& e);
+  // Many at once, added in key order (cheap memtable inserts; the same entries as
+  // one call per item).
+  void AddDecisions(const std::vector<Decision>& decisions);
+  void AddEdges(const std::vector<Edge>& edges);
   // Key-value entries in the batch.
   size_t count() const { return count_; }
 
  private:
   friend class IndexStore;
+  // One direction of an edge: key (a, b), or (b, a) when reversed.
+  void AddEdgeEntry(const Edge& e, bool reversed);
   const IndexStore* store_;
   size_t count_ = 0;
   std::string key_, value_;  // scratch

@@ -193,32 +193,34 @@ StatusOr<CoordinatorService::Job*> CoordinatorService::GetOrCreateJob(const std:
 
 Status CoordinatorService::WriteToShards(Job* job, const std::vector<const v1::SignedDocument*>& docs) {
   const size_t n = shards_.size();
-  std::vector<v1::WriteRequest> requests(n);
+  google::protobuf::Arena arena;  // thousands of Posting messages per request: one free
+  std::vector<v1::WriteRequest*> requests(n);
   for (auto& r : requests) {
-    r.set_job(job->name);
-    r.set_scheme(job->params.scheme());
+    r = google::protobuf::Arena::CreateMessage<v1::WriteRequest>(&arena);
+    r->set_job(job->name);
+    r->set_scheme(job->params.scheme());
   }
   std::vector<bool> touched(n);
   for (const v1::SignedDocument* d : docs) {
     std::fill(touched.begin(), touched.end(), false);
     for (int band = 0; band < d->buckets_size(); ++band) {
       const uint32_t shard = ShardOf(band, d->buckets(band), static_cast<uint32_t>(n));
-      v1::Posting* p = requests[shard].add_postings();
+      v1::Posting* p = requests[shard]->add_postings();
       p->set_band(band);
       p->set_bucket(d->buckets(band));
       p->set_doc(d->key());
       touched[shard] = true;
     }
     for (size_t i = 0; i < n; ++i) {
-      if (touched[i]) (*requests[i].mutable_signatures())[d->key()] = d->signature();
+      if (touched[i]) (*requests[i]->mutable_signatures())[d->key()] = d->signature();
     }
   }
   return ForEachShardParallel(n, [&](size_t i) -> Status {
-    if (requests[i].postings_size() == 0) return Status::Ok();
+    if (requests[i]->postings_size() == 0) return Status::Ok();
     grpc::ClientContext ctx;
     PrepareContext(&ctx, options_.shard_security, options_.shard_deadline_s);
     v1::WriteResponse resp;
-    return FromGrpcStatus(shards_[i]->Write(&ctx, requests[i], &resp),
+    return FromGrpcStatus(shards_[i]->Write(&ctx, *requests[i], &resp),
                           "writing to shard " + options_.shards[i]);
   });
 }
@@ -502,8 +504,8 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   CountDecisions(decisions, &summary);
   for (const ManifestRow& r : rows) ++summary.dropped_by_reason[static_cast<size_t>(r.reason)];
   WriteBatchBuilder batch(job->store.get());
-  for (const Decision& d : decisions) batch.AddDecision(d);
-  for (const Edge& e : edges) batch.AddEdge(e);
+  batch.AddDecisions(decisions);
+  batch.AddEdges(edges);
   SHINGLETON_RETURN_IF_ERROR(job->store->Write(&batch));
   summary.seconds_total = std::chrono::duration<double>(Clock::now() - start).count();
 

@@ -24,12 +24,10 @@ void IngestReactor::OnReadDone(bool ok) {
   Actions a;
   {
     std::lock_guard<std::mutex> lock(mu_);
-    std::unique_ptr<v1::IngestRequest> request = std::move(reading_);
+    std::unique_ptr<Slot> slot = std::move(reading_);
     if (!ok) {
       reads_closed_ = true;  // the client half-closed the stream (or it broke)
     } else if (!finished_) {
-      auto slot = std::make_unique<Slot>();
-      slot->request = std::move(*request);
       Slot* s = slot.get();
       const uint64_t index = next_index_++;
       slots_.push_back(std::move(slot));
@@ -42,7 +40,7 @@ void IngestReactor::OnReadDone(bool ok) {
 }
 
 void IngestReactor::Run(Slot* slot, uint64_t index) {
-  Status s = process_(slot->request, &slot->ack, &order_, index);
+  Status s = process_(*slot->request, &slot->ack, &order_, index);
   Actions a;
   bool last = false;
   {
@@ -93,8 +91,8 @@ void IngestReactor::Advance(Actions* a) {
     a->write = &front->ack;
   }
   if (!reading_ && !reads_closed_ && slots_.size() < window_) {
-    reading_ = std::make_unique<v1::IngestRequest>();
-    a->read = reading_.get();
+    reading_ = std::make_unique<Slot>();
+    a->read = reading_->request;
   }
   if (reads_closed_ && slots_.empty() && !writing_) FinishOnce(a, grpc::Status::OK);
 }

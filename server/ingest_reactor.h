@@ -22,6 +22,8 @@
 #include <memory>
 #include <mutex>
 
+#include <google/protobuf/arena.h>
+
 #include "index/status.h"
 #include "server/thread_pool.h"
 #include "shingleton/v1/service.grpc.pb.h"
@@ -69,7 +71,9 @@ class IngestReactor : public grpc::ServerBidiReactor<v1::IngestRequest, v1::Inge
 
  private:
   struct Slot {
-    v1::IngestRequest request;
+    // The request's thousands of small messages live in one arena: one free.
+    google::protobuf::Arena arena;
+    v1::IngestRequest* request = google::protobuf::Arena::CreateMessage<v1::IngestRequest>(&arena);
     v1::IngestAck ack;
     bool processed = false;
     Status status;
@@ -93,8 +97,8 @@ class IngestReactor : public grpc::ServerBidiReactor<v1::IngestRequest, v1::Inge
   const size_t window_;
   BatchOrder order_;
   std::mutex mu_;
-  std::unique_ptr<v1::IngestRequest> reading_;  // GUARDED_BY(mu_): the read in progress
-  std::deque<std::unique_ptr<Slot>> slots_;     // GUARDED_BY(mu_): unacknowledged, in arrival order
+  std::unique_ptr<Slot> reading_;             // GUARDED_BY(mu_): the read in progress
+  std::deque<std::unique_ptr<Slot>> slots_;  // GUARDED_BY(mu_): unacknowledged, in arrival order
   uint64_t next_index_ = 0;                     // GUARDED_BY(mu_)
   bool writing_ = false;                        // GUARDED_BY(mu_)
   bool reads_closed_ = false;                   // GUARDED_BY(mu_)
