@@ -241,7 +241,11 @@ Status CoordinatorService::ProcessBatch(const v1::IngestRequest& req, v1::Ingest
     if (!found.ok()) return found.status();
   }
   if (!fresh.ok()) return fresh.status();
-  return StoreBatch(job, std::move(fresh).value(), ack);
+  SHINGLETON_RETURN_IF_ERROR(StoreBatch(job, std::move(fresh).value(), ack));
+  if (order && index == 0) {
+    spdlog::info("coordinator: job {}: first batch of worker '{}' stored", job->name, req.worker());
+  }
+  return Status::Ok();
 }
 
 StatusOr<std::vector<const v1::SignedDocument*>> CoordinatorService::CheckBatch(Job* job,

@@ -447,10 +447,11 @@ TEST(ServiceTest, ChainGuardGivesTheEmbeddedDecisions) {
   EXPECT_TRUE(cluster.Stop()) << cluster.Logs();
 }
 
-// Waits (bounded) until the coordinator has created job "demo", i.e. the first batch arrived.
-bool WaitForJobCreated(const TempDir& dir, double timeout_s = 30) {
+// Waits (bounded) until the coordinator has stored the first batch of `worker`'s stream.
+bool WaitForFirstBatchStored(const TempDir& dir, const std::string& worker, double timeout_s = 30) {
+  const std::string line = "first batch of worker '" + worker + "' stored";
   for (double waited = 0; waited < timeout_s; waited += 0.02) {
-    if (ReadFile(dir.File("coord.log")).find("job demo created") != std::string::npos) return true;
+    if (ReadFile(dir.File("coord.log")).find(line) != std::string::npos) return true;
     std::this_thread::sleep_for(std::chrono::milliseconds(20));
   }
   return false;
@@ -517,17 +518,18 @@ TEST(ServiceTest, KilledWorkerAndCoordinatorMidStreamGiveTheEmbeddedDecisions) {
   LocalCluster cluster(dir, 3);
   ASSERT_TRUE(cluster.ok()) << cluster.Logs();
   const auto parts = SplitCorpus(dir, 2);
-  auto ingest_args = [&](const std::string& input) {
+  auto ingest_args = [&](const std::string& input, const std::string& name) {
     return std::vector<std::string>{"ingest", "--coordinator", cluster.coordinator(), "--job", "demo", "--input",
-                                    input, "--batch-docs", "2", "--window", "8", "--threads", "1"};
+                                    input, "--batch-docs", "2", "--window", "8", "--threads", "1",
+                                    "--worker", name};
   };
 
   ChildProcess worker;
-  ASSERT_TRUE(worker.Start(ingest_args(parts[0]), dir.File("w0.log")));
-  ASSERT_TRUE(WaitForJobCreated(dir)) << cluster.Logs();
+  ASSERT_TRUE(worker.Start(ingest_args(parts[0], "w0"), dir.File("w0.log")));
+  ASSERT_TRUE(WaitForFirstBatchStored(dir, "w0")) << cluster.Logs();
   const bool killed_mid_stream = worker.Wait(0) == -1;
   worker.Kill();
-  RunResult again = RunShingleton(ingest_args(parts[0]));
+  RunResult again = RunShingleton(ingest_args(parts[0], "w0-again"));
   ASSERT_EQ(again.exit_code, 0) << again.output << cluster.Logs();
   if (killed_mid_stream) {
     EXPECT_GT(AlreadyPresent(again.output), 0u) << again.output;
@@ -536,8 +538,8 @@ TEST(ServiceTest, KilledWorkerAndCoordinatorMidStreamGiveTheEmbeddedDecisions) {
   }
 
   ChildProcess second;
-  ASSERT_TRUE(second.Start(ingest_args(parts[1]), dir.File("w1.log")));
-  std::this_thread::sleep_for(std::chrono::milliseconds(300));  // let it get going (not a timing check)
+  ASSERT_TRUE(second.Start(ingest_args(parts[1], "w1"), dir.File("w1.log")));
+  ASSERT_TRUE(WaitForFirstBatchStored(dir, "w1")) << cluster.Logs();
   const bool coordinator_killed_mid_stream = second.Wait(0) == -1;
   ASSERT_TRUE(cluster.RestartCoordinator(/*kill=*/true)) << cluster.Logs();
   ASSERT_EQ(second.Wait(120), 0) << ReadFile(dir.File("w1.log")) << cluster.Logs();
