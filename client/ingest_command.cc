@@ -1,17 +1,19 @@
 // `shingleton ingest`: an ingest worker. Reads and signs documents locally with the
 // same IngestPipeline as the embedded job, and streams signatures and metadata
-// (never the text) to the coordinator, one acknowledged batch at a time.
+// (never the text) to the coordinator, with up to --window batches unacknowledged
+// (client/ingest_stream.h).
 //
 // Retries: when the stream breaks (coordinator restart, network), the worker
-// reconnects and re-sends the unacknowledged batch; re-sending is harmless because
+// reconnects and re-sends every unacknowledged batch; re-sending is harmless because
 // the coordinator recognises documents it already holds.
 #include <chrono>
+#include <cmath>
 #include <iomanip>
 #include <iostream>
 #include <memory>
-#include <thread>
 
 #include "client/commands.h"
+#include "client/ingest_stream.h"
 #include "client/job_flags.h"
 #include "client/progress.h"
 #include "index/signature_codec.h"
@@ -26,62 +28,8 @@ struct IngestFlags {
   ClientFlags client;
   std::string job_name;
   std::string worker;
-  double stream_deadline_s = 6 * 3600;
-  int retries = 5;
+  IngestStreamOptions stream;
 };
-
-bool Retryable(const grpc::Status& s) {
-  return s.error_code() == grpc::StatusCode::UNAVAILABLE ||
-         s.error_code() == grpc::StatusCode::ABORTED ||
-         s.error_code() == grpc::StatusCode::CANCELLED;
-}
-
-// One bidirectional Ingest stream that reopens itself on transient failures.
-class IngestStream {
- public:
-  IngestStream(v1::Coordinator::Stub* stub, const IngestFlags& f) : stub_(stub), f_(f) {}
-
-  Status Send(const v1::IngestRequest& req, v1::IngestAck* ack) {
-    grpc::Status last;
-    for (int attempt = 0; attempt <= f_.retries; ++attempt) {
-      if (attempt > 0) std::this_thread::sleep_for(std::chrono::milliseconds(250 << std::min(attempt, 5)));
-      if (!stream_) Open();
-      if (stream_->Write(req) && stream_->Read(ack)) return Status::Ok();
-      last = Reset();
-      if (!Retryable(last)) break;
-      std::cerr << "shingleton ingest: stream broke (" << last.error_message() << "), retrying\n";
-    }
-    return rpc::FromGrpcStatus(last, "ingest into job " + req.job());
-  }
-
-  Status Close() {
-    if (!stream_) return Status::Ok();
-    stream_->WritesDone();
-    grpc::Status s = stream_->Finish();
-    stream_.reset();
-    ctx_.reset();
-    return rpc::FromGrpcStatus(s, "closing the ingest stream");
-  }
-
- private:
-  void Open() {
-    ctx_ = std::make_unique<grpc::ClientContext>();
-    rpc::PrepareContext(ctx_.get(), f_.client.security, f_.stream_deadline_s);
-    stream_ = stub_->Ingest(ctx_.get());
-  }
-  grpc::Status Reset() {
-    grpc::Status s = stream_->Finish();
-    stream_.reset();
-    ctx_.reset();
-    return s;
-  }
-
-  v1::Coordinator::Stub* stub_;
-  const IngestFlags& f_;
-  std::unique_ptr<grpc::ClientContext> ctx_;
-  std::unique_ptr<grpc::ClientReaderWriter<v1::IngestRequest, v1::IngestAck>> stream_;
-};
-
 
 int RunIngest(IngestFlags& f) {
   Status s = ApplyJobFlags(&f.job);
@@ -102,7 +50,6 @@ int RunIngest(IngestFlags& f) {
     return 2;
   }
   auto stub = v1::Coordinator::NewStub(channel.value());
-  IngestStream stream(stub.get(), f);
 
   v1::JobParams params;
   params.set_scheme(scheme->Serialize());
@@ -115,6 +62,16 @@ int RunIngest(IngestFlags& f) {
   const int k = scheme->num_hashes, bands = scheme->bands;
   uint64_t seq = 0, ordinal = 0, sent = 0, accepted = 0, repeated = 0, skipped = 0;
   const auto start = std::chrono::steady_clock::now();
+  f.stream.security = f.client.security;
+  IngestStream stream(stub.get(), f.stream, [&](const v1::IngestAck& ack) -> Status {
+    accepted += ack.accepted();
+    repeated += ack.repeated_documents();
+    if (ack.rejected_size() > 0) {
+      if (!o.skip_bad) return Status::BadInput(ack.rejected(0));
+      skipped += ack.rejected_size();
+    }
+    return Status::Ok();
+  });
 
   auto sink = [&](const SignedBatch& batch) -> Status {
     v1::IngestRequest req;
@@ -148,16 +105,8 @@ int RunIngest(IngestFlags& f) {
       const uint64_t* b = batch.bucket(i, bands);
       for (int j = 0; j < bands; ++j) d->add_buckets(b[j]);
     }
-    v1::IngestAck ack;
-    SHINGLETON_RETURN_IF_ERROR(stream.Send(req, &ack));
     sent += req.documents_size();
-    accepted += ack.accepted();
-    repeated += ack.repeated_documents();
-    if (ack.rejected_size() > 0) {
-      if (!o.skip_bad) return Status::BadInput(ack.rejected(0));
-      skipped += ack.rejected_size();
-    }
-    return Status::Ok();
+    return stream.Send(std::move(req));
   };
   s = RunIngestPipeline(o.ingest, scheme.value(), sink);
   Status closed = stream.Close();
@@ -191,10 +140,19 @@ void AddIngestCommand(CLI::App* app, int* rc) {
   cmd->add_option("--worker", f->worker, "Worker name for the coordinator's logs");
   AddJobFlags(cmd, &f->job);
   AddClientFlags(cmd, &f->client);
-  cmd->add_option("--stream-deadline", f->stream_deadline_s, "Deadline of one ingest stream, seconds")
+  cmd->add_option("--stream-deadline", f->stream.stream_deadline_s, "Deadline of one ingest stream, seconds")
       ->capture_default_str();
-  cmd->add_option("--retries", f->retries, "Re-sends of a batch after transient failures")
+  cmd->add_option("--retries", f->stream.retries,
+                  "Reconnects after transient failures without an acknowledgement in between")
       ->capture_default_str();
+  cmd->add_option("--window", f->stream.window,
+                  "Batches sent before their acknowledgement arrives (1: wait for each)")
+      ->capture_default_str()
+      ->check(CLI::Range(1, 64));
+  cmd->add_option("--batch-docs", f->job.options.ingest.batch_lines,
+                  "Documents (input lines) per batch; a batch also closes at 4 MiB of text")
+      ->capture_default_str()
+      ->check(CLI::Range(1, 1 << 20));
   cmd->callback([f, rc] { *rc = RunIngest(*f); });
 }
 

@@ -60,6 +60,13 @@ rocksdb::ColumnFamilyOptions FamilyOptions(const std::string& name, bool bulk_lo
   if (bulk_load) {
     cf.memtable_factory = std::make_shared<rocksdb::VectorRepFactory>();
     cf.disable_auto_compactions = true;
+  } else {
+    // Online writers (shards, coordinator) add a batch's entries in key order
+    // (WriteBatchBuilder's callers sort them). With one insert hint per family the
+    // skip list starts each insert from the previous one and walks up only as far
+    // as needed (O(log distance)), instead of searching from the top for every key
+    // that does not land right next to the previous one.
+    cf.memtable_insert_with_hint_prefix_extractor.reset(rocksdb::NewFixedPrefixTransform(0));
   }
   rocksdb::BlockBasedTableOptions table;
   if (name == "postings") {
@@ -124,6 +131,11 @@ void WriteBatchBuilder::AddSignature(uint64_t key, const uint32_t* sig, int k) {
   ++count_;
 }
 
+void WriteBatchBuilder::AddPackedSignature(uint64_t key, std::string_view packed) {
+  batch_->Put(store_->signatures_, Key64(key), rocksdb::Slice(packed.data(), packed.size()));
+  ++count_;
+}
+
 void WriteBatchBuilder::AddPosting(int band, uint64_t bucket, uint64_t key) {
   key_.clear();
   PutBigEndian16(&key_, static_cast<uint16_t>(band));
@@ -157,13 +169,37 @@ void WriteBatchBuilder::AddDecision(const Decision& d) {
 
 void WriteBatchBuilder::AddEdge(const Edge& e) {
   // Stored in both directions so EdgesOf() is one prefix scan.
+  for (int dir = 0; dir < 2; ++dir) AddEdgeEntry(e, dir == 1);
+}
+
+void WriteBatchBuilder::AddEdgeEntry(const Edge& e, bool reversed) {
   EncodeEdgeValue(e, &value_);
+  key_.clear();
+  PutBigEndian64(&key_, reversed ? e.b : e.a);
+  PutBigEndian64(&key_, reversed ? e.a : e.b);
+  batch_->Put(store_->edges_, key_, value_);
+  ++count_;
+}
+
+void WriteBatchBuilder::AddDecisions(const std::vector<Decision>& decisions) {
+  std::vector<const Decision*> sorted;
+  sorted.reserve(decisions.size());
+  for (const Decision& d : decisions) sorted.push_back(&d);
+  std::sort(sorted.begin(), sorted.end(), [](const Decision* x, const Decision* y) { return x->key < y->key; });
+  for (const Decision* d : sorted) AddDecision(*d);
+}
+
+void WriteBatchBuilder::AddEdges(const std::vector<Edge>& edges) {
+  // The entries of each direction in key order: (a, b) keys first, then (b, a).
+  std::vector<const Edge*> order;
   for (int dir = 0; dir < 2; ++dir) {
-    key_.clear();
-    PutBigEndian64(&key_, dir == 0 ? e.a : e.b);
-    PutBigEndian64(&key_, dir == 0 ? e.b : e.a);
-    batch_->Put(store_->edges_, key_, value_);
-    ++count_;
+    order.clear();
+    for (const Edge& e : edges) order.push_back(&e);
+    std::sort(order.begin(), order.end(), [dir](const Edge* x, const Edge* y) {
+      return dir == 0 ? std::make_pair(x->a, x->b) < std::make_pair(y->a, y->b)
+                      : std::make_pair(x->b, x->a) < std::make_pair(y->b, y->a);
+    });
+    for (const Edge* e : order) AddEdgeEntry(*e, dir == 1);
   }
 }
 

@@ -27,6 +27,7 @@
 #include <functional>
 #include <memory>
 #include <string>
+#include <string_view>
 #include <thread>
 #include <utility>
 #include <vector>
@@ -73,17 +74,26 @@ class WriteBatchBuilder {
   // signatures of their documents; a coordinator stores metadata and signatures.
   void AddMeta(const DocumentMeta& doc);
   void AddSignature(uint64_t key, const uint32_t* sig, int k);
+  // The same from the wire form (index/signature_codec.h, 4k bytes little-endian),
+  // which is also the stored form: no unpacking. REQUIRES: packed.size() == 4k.
+  void AddPackedSignature(uint64_t key, std::string_view packed);
   void AddPosting(int band, uint64_t bucket, uint64_t key);
   // Exact-content and URL lookups (reference generations use them).
   void AddContent(const DocumentMeta& doc);
   void AddUrl(const std::string& normalized_url, uint64_t key);
   void AddDecision(const Decision& d);
   void AddEdge(const Edge& e);
+  // Many at once, added in key order (cheap memtable inserts; the same entries as
+  // one call per item).
+  void AddDecisions(const std::vector<Decision>& decisions);
+  void AddEdges(const std::vector<Edge>& edges);
   // Key-value entries in the batch.
   size_t count() const { return count_; }
 
  private:
   friend class IndexStore;
+  // One direction of an edge: key (a, b), or (b, a) when reversed.
+  void AddEdgeEntry(const Edge& e, bool reversed);
   const IndexStore* store_;
   size_t count_ = 0;
   std::string key_, value_;  // scratch

@@ -69,47 +69,6 @@ Status ForEachShardParallel(size_t n, Fn fn) {
   return first;
 }
 
-// Reactor for the Ingest stream: one batch in flight; each is processed on the
-// pool, then acknowledged, then the next is read (flow control).
-class IngestReactor : public grpc::ServerBidiReactor<v1::IngestRequest, v1::IngestAck> {
- public:
-  IngestReactor(CoordinatorService* service, grpc::Status auth) : service_(service) {
-    if (!auth.ok()) {
-      Finish(auth);
-      return;
-    }
-    StartRead(&request_);
-  }
-  void OnReadDone(bool ok) override {
-    if (!ok) {  // the client half-closed the stream
-      Finish(grpc::Status::OK);
-      return;
-    }
-    service_->pool().Submit([this] {
-      ack_.Clear();
-      Status s = service_->ProcessBatch(request_, &ack_);
-      if (!s.ok()) {
-        Finish(ToGrpcStatus(s));
-        return;
-      }
-      StartWrite(&ack_);
-    });
-  }
-  void OnWriteDone(bool ok) override {
-    if (!ok) {
-      Finish(grpc::Status(grpc::StatusCode::CANCELLED, "the ingest stream was closed"));
-      return;
-    }
-    StartRead(&request_);
-  }
-  void OnDone() override { delete this; }
-
- private:
-  CoordinatorService* service_;
-  v1::IngestRequest request_;
-  v1::IngestAck ack_;
-};
-
 }  // namespace
 
 StatusOr<v1::JobParams> NormalizeParams(const v1::JobParams& in) {
@@ -234,36 +193,74 @@ StatusOr<CoordinatorService::Job*> CoordinatorService::GetOrCreateJob(const std:
 
 Status CoordinatorService::WriteToShards(Job* job, const std::vector<const v1::SignedDocument*>& docs) {
   const size_t n = shards_.size();
-  std::vector<v1::WriteRequest> requests(n);
+  google::protobuf::Arena arena;  // thousands of Posting messages per request: one free
+  std::vector<v1::WriteRequest*> requests(n);
   for (auto& r : requests) {
-    r.set_job(job->name);
-    r.set_scheme(job->params.scheme());
+    r = google::protobuf::Arena::CreateMessage<v1::WriteRequest>(&arena);
+    r->set_job(job->name);
+    r->set_scheme(job->params.scheme());
   }
+  std::vector<bool> touched(n);
   for (const v1::SignedDocument* d : docs) {
+    std::fill(touched.begin(), touched.end(), false);
     for (int band = 0; band < d->buckets_size(); ++band) {
-      v1::WriteRequest& r = requests[ShardOf(band, d->buckets(band), static_cast<uint32_t>(n))];
-      v1::Posting* p = r.add_postings();
+      const uint32_t shard = ShardOf(band, d->buckets(band), static_cast<uint32_t>(n));
+      v1::Posting* p = requests[shard]->add_postings();
       p->set_band(band);
       p->set_bucket(d->buckets(band));
       p->set_doc(d->key());
-      (*r.mutable_signatures())[d->key()] = d->signature();
+      touched[shard] = true;
+    }
+    for (size_t i = 0; i < n; ++i) {
+      if (touched[i]) (*requests[i]->mutable_signatures())[d->key()] = d->signature();
     }
   }
   return ForEachShardParallel(n, [&](size_t i) -> Status {
-    if (requests[i].postings_size() == 0) return Status::Ok();
+    if (requests[i]->postings_size() == 0) return Status::Ok();
     grpc::ClientContext ctx;
     PrepareContext(&ctx, options_.shard_security, options_.shard_deadline_s);
     v1::WriteResponse resp;
-    return FromGrpcStatus(shards_[i]->Write(&ctx, requests[i], &resp),
+    return FromGrpcStatus(shards_[i]->Write(&ctx, *requests[i], &resp),
                           "writing to shard " + options_.shards[i]);
   });
 }
 
-Status CoordinatorService::ProcessBatch(const v1::IngestRequest& req, v1::IngestAck* ack) {
-  SHINGLETON_ASSIGN_OR_RETURN(Job * job, GetOrCreateJob(req.job(), req.params()));
-  std::lock_guard<std::mutex> lock(job->mu);
-  const int k = job->scheme.num_hashes;
+Status CoordinatorService::ProcessBatch(const v1::IngestRequest& req, v1::IngestAck* ack, BatchOrder* order,
+                                        uint64_t index) {
   ack->set_batch_seq(req.batch_seq());
+  StatusOr<std::vector<const v1::SignedDocument*>> fresh = Status::Ok();
+  Job* job = nullptr;
+  {
+    if (order) order->Wait(index);
+    StatusOr<Job*> found = GetOrCreateJob(req.job(), req.params());
+    if (found.ok()) {
+      job = found.value();
+      fresh = CheckBatch(job, req, ack);
+    }
+    if (order) order->Done();
+    if (!found.ok()) return found.status();
+  }
+  if (!fresh.ok()) return fresh.status();
+  SHINGLETON_RETURN_IF_ERROR(StoreBatch(job, std::move(fresh).value(), ack));
+  if (order && index == 0) {
+    spdlog::info("coordinator: job {}: first batch of worker '{}' stored", job->name, req.worker());
+  }
+  return Status::Ok();
+}
+
+StatusOr<std::vector<const v1::SignedDocument*>> CoordinatorService::CheckBatch(Job* job,
+                                                                                const v1::IngestRequest& req,
+                                                                                v1::IngestAck* ack) {
+  const int k = job->scheme.num_hashes;
+  std::unique_lock<std::mutex> lock(job->mu);
+  // A document another batch is still writing: wait until that batch is stored
+  // (or failed), then check against the store as if the batches ran one by one.
+  job->settled.wait(lock, [&] {
+    for (const v1::SignedDocument& d : req.documents()) {
+      if (job->pending.count(d.key())) return false;
+    }
+    return true;
+  });
   std::vector<const v1::SignedDocument*> fresh;
   std::set<uint64_t> in_batch;
   uint32_t repeated = 0;
@@ -298,18 +295,35 @@ Status CoordinatorService::ProcessBatch(const v1::IngestRequest& req, v1::Ingest
                         existing->source + ")");
     }
   }
-  SHINGLETON_RETURN_IF_ERROR(WriteToShards(job, fresh));
-  WriteBatchBuilder batch(job->store.get());
-  for (const v1::SignedDocument* d : fresh) {
-    batch.AddMeta(MetaOf(*d));
-    const std::vector<uint32_t> sig = UnpackSignature(d->signature());
-    batch.AddSignature(d->key(), sig.data(), k);
-  }
-  SHINGLETON_RETURN_IF_ERROR(job->store->Write(&batch));
-  job->documents += fresh.size();
-  ++job->batches;
-  ack->set_accepted(static_cast<uint32_t>(fresh.size()));
   ack->set_repeated_documents(repeated);
+  for (const v1::SignedDocument* d : fresh) job->pending.insert(d->key());
+  return fresh;
+}
+
+Status CoordinatorService::StoreBatch(Job* job, std::vector<const v1::SignedDocument*> fresh, v1::IngestAck* ack) {
+  // Key order: consecutive inserts land next to each other in the memtables.
+  std::sort(fresh.begin(), fresh.end(),
+            [](const v1::SignedDocument* a, const v1::SignedDocument* b) { return a->key() < b->key(); });
+  Status s = WriteToShards(job, fresh);
+  if (s.ok()) {
+    WriteBatchBuilder batch(job->store.get());
+    for (const v1::SignedDocument* d : fresh) {
+      batch.AddMeta(MetaOf(*d));
+      batch.AddPackedSignature(d->key(), d->signature());
+    }
+    s = job->store->Write(&batch);
+  }
+  {
+    std::lock_guard<std::mutex> lock(job->mu);
+    for (const v1::SignedDocument* d : fresh) job->pending.erase(d->key());
+    if (s.ok()) {
+      job->documents += fresh.size();
+      ++job->batches;
+    }
+  }
+  job->settled.notify_all();
+  SHINGLETON_RETURN_IF_ERROR(s);
+  ack->set_accepted(static_cast<uint32_t>(fresh.size()));
   return Status::Ok();
 }
 
@@ -407,7 +421,8 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
     const v1::FinalizeRequest& req) {
   const Clock::time_point start = Clock::now();
   SHINGLETON_ASSIGN_OR_RETURN(Job * job, GetJob(req.job()));
-  std::lock_guard<std::mutex> lock(job->mu);
+  std::unique_lock<std::mutex> lock(job->mu);
+  job->settled.wait(lock, [job] { return job->pending.empty(); });  // batches still being written
   DedupSummary summary;
   summary.scheme = job->scheme;
 
@@ -493,8 +508,8 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   CountDecisions(decisions, &summary);
   for (const ManifestRow& r : rows) ++summary.dropped_by_reason[static_cast<size_t>(r.reason)];
   WriteBatchBuilder batch(job->store.get());
-  for (const Decision& d : decisions) batch.AddDecision(d);
-  for (const Edge& e : edges) batch.AddEdge(e);
+  batch.AddDecisions(decisions);
+  batch.AddEdges(edges);
   SHINGLETON_RETURN_IF_ERROR(job->store->Write(&batch));
   summary.seconds_total = std::chrono::duration<double>(Clock::now() - start).count();
 
@@ -552,7 +567,12 @@ Status CoordinatorService::DoJobStats(const v1::JobStatsRequest& req, v1::JobSta
 
 grpc::ServerBidiReactor<v1::IngestRequest, v1::IngestAck>* CoordinatorService::Ingest(
     grpc::CallbackServerContext* ctx) {
-  return new IngestReactor(this, CheckToken(ctx, options_.token));
+  return new IngestReactor(
+      pool_.get(),
+      [this](const v1::IngestRequest& req, v1::IngestAck* ack, BatchOrder* order, uint64_t index) {
+        return ProcessBatch(req, ack, order, index);
+      },
+      CheckToken(ctx, options_.token));
 }
 
 grpc::ServerUnaryReactor* CoordinatorService::Query(grpc::CallbackServerContext* ctx,

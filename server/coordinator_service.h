@@ -10,16 +10,22 @@
 // documents' postings go to the shards owning their buckets (ShardOf), then the
 // metadata is written here (fsync'd); only then is the batch acknowledged. A
 // re-sent batch finds its documents present with equal signatures and changes
-// nothing. Batches of one job are applied one at a time (Job::mu); different
-// jobs and the signing on the workers run in parallel.
+// nothing. Several batches of one job are written at once (from one stream's
+// window or from several workers), so their synced writes on the shards and here
+// share WAL syncs (RocksDB group commit): only the checks run one batch at a time
+// (Job::mu), and a batch naming a document that another batch is still writing
+// (Job::pending) waits for that batch before its checks, so every batch sees the
+// same outcome as if the batches had been applied one after another.
 //
 // Thread safety: RPCs may run concurrently; blocking work runs on pool_.
 #pragma once
 
+#include <condition_variable>
 #include <map>
 #include <memory>
 #include <mutex>
 #include <string>
+#include <unordered_set>
 #include <vector>
 
 #include "index/index_store.h"
@@ -27,6 +33,7 @@
 #include "index/reference_resolution.h"
 #include "shingleton/v1/service.grpc.pb.h"
 #include "server/grpc_common.h"
+#include "server/ingest_reactor.h"
 #include "server/thread_pool.h"
 
 namespace shingleton::rpc {
@@ -67,8 +74,10 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
   ThreadPool& pool() { return *pool_; }
   const std::string& token() const { return options_.token; }
 
-  // The RPC bodies (run on the pool).
-  Status ProcessBatch(const v1::IngestRequest& req, v1::IngestAck* ack);
+  // The RPC bodies (run on the pool). ProcessBatch checks the batch in its turn
+  // of `order` (when given; see BatchOrder), then writes it.
+  Status ProcessBatch(const v1::IngestRequest& req, v1::IngestAck* ack, BatchOrder* order = nullptr,
+                      uint64_t index = 0);
   Status DoQuery(const v1::QueryRequest& req, v1::QueryResponse* resp);
   StatusOr<std::vector<v1::FinalizeResponse>> DoFinalize(const v1::FinalizeRequest& req);
   Status DoJobStats(const v1::JobStatsRequest& req, v1::JobStats* resp);
@@ -81,10 +90,18 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
     SketchScheme scheme;
     KeepPolicy policy;
     std::unique_ptr<IndexStore> store;
-    std::mutex mu;            // one batch or finalize at a time
+    std::mutex mu;            // one batch's checks, or finalize, at a time
+    std::condition_variable settled;  // notified when a batch leaves `pending`
+    std::unordered_set<uint64_t> pending;  // GUARDED_BY(mu): keys being written by batches
     uint64_t batches = 0;     // GUARDED_BY(mu)
     uint64_t documents = 0;   // GUARDED_BY(mu)
   };
+  // The checks of one batch under job->mu: fills the ack's rejections and repeats
+  // and returns the new documents, whose keys it adds to job->pending.
+  StatusOr<std::vector<const v1::SignedDocument*>> CheckBatch(Job* job, const v1::IngestRequest& req,
+                                                               v1::IngestAck* ack);
+  // Writes the new documents to the shards, then here; removes them from pending.
+  Status StoreBatch(Job* job, std::vector<const v1::SignedDocument*> fresh, v1::IngestAck* ack);
   explicit CoordinatorService(CoordinatorOptions options);
   Status LoadJobs();
   StatusOr<Job*> GetJob(const std::string& name);

@@ -66,7 +66,8 @@ TEST(CliTest, EverySubcommandHasHelp) {
   }
   Result ingest = Shingleton("ingest --help");
   for (const char* expected : {"--coordinator TEXT=127.0.0.1:7400", "--job", "--deadline FLOAT=60",
-                               "--threshold FLOAT=0.8", "--retries INT=5", "--ca", "--cert", "--key"}) {
+                               "--threshold FLOAT=0.8", "--retries INT=5", "--ca", "--cert", "--key",
+                               "--window UINT:INT in [1 - 64]=4", "--batch-docs UINT:INT in [1 - 1048576]=1024"}) {
     EXPECT_NE(ingest.output.find(expected), std::string::npos) << "ingest --help lacks " << expected;
   }
 }
