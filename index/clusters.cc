@@ -26,8 +26,8 @@ std::vector<Decision> ResolveClusters(const DocTable& docs, const std::vector<Ed
     const size_t root = uf.Find(i);
     const size_t kept = best[root];
     Decision& d = out[i];
-    d.key = docs.doc(i).key;
-    d.kept_key = docs.doc(kept).key;
+    d.key = docs.key(i);  // key(), not doc(): doc() builds the strings too
+    d.kept_key = docs.key(kept);
     d.cluster = d.kept_key;
     d.cluster_size = static_cast<uint32_t>(uf.SetSize(i));
     d.similarity = i == kept ? 1.0f

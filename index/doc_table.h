@@ -49,6 +49,8 @@ class DocTable {
   std::pair<uint64_t, uint64_t> content(size_t i) const { return {records_[i].content_hi, records_[i].content_lo}; }
   // The document without url and excerpt (built on each call).
   DocumentMeta doc(size_t i) const;
+  // Its id alone, without building the rest (valid until the next Add()).
+  std::string_view id(size_t i) const { return Piece(records_[i].strings, records_[i].id_size); }
   // The held signature of document i, or nullptr.
   const uint32_t* signature(size_t i) const {
     const uint32_t slot = records_[i].sig_slot;

@@ -18,11 +18,11 @@ std::vector<ManifestRow> ManifestRows(const DocTable& docs, const std::vector<De
   for (size_t i = 0; i < docs.size(); ++i) {
     const Decision& d = decisions[i];
     ManifestRow& r = rows[i];
-    r.id = docs.doc(i).id;
+    r.id = docs.id(i);  // id() and content(), not doc(): doc() builds every string
     if (!d.kept()) {
-      const DocumentMeta& kept = docs.doc(static_cast<size_t>(docs.IndexOf(d.kept_key)));
-      r.duplicate_of = kept.id;
-      r.reason = docs.doc(i).SameContent(kept) ? DropReason::kExact : DropReason::kNear;
+      const size_t kept = static_cast<size_t>(docs.IndexOf(d.kept_key));
+      r.duplicate_of = docs.id(kept);
+      r.reason = docs.content(i) == docs.content(kept) ? DropReason::kExact : DropReason::kNear;
     }
     r.cluster = d.cluster;
     r.cluster_size = d.cluster_size;
