@@ -93,7 +93,11 @@ void FillGap(const uint32_t* left_mask, uint32_t left, uint32_t right, size_t be
     const auto m = hn::LoadU(d, left_mask + j);
     hn::StoreU(hn::Or(hn::And(m, l), hn::AndNot(m, r)), d, sig + j);
   }
-  for (; j < end; ++j) sig[j] = (left & left_mask[j]) | (right & ~left_mask[j]);
+  if (j < end) {  // the last partial vector: a masked store, no scalar tail
+    // left_mask is padded (kRotationPadding), so the whole vector is readable.
+    const auto m = hn::LoadU(d, left_mask + j);
+    hn::BlendedStore(hn::Or(hn::And(m, l), hn::AndNot(m, r)), hn::FirstN(d, end - j), d, sig + j);
+  }
 }
 
 void RotateIntoEmptyBinsImpl(const uint64_t* filled, const uint32_t* left_mask, size_t k,

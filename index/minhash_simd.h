@@ -38,7 +38,9 @@ size_t Ms32MinUpdate(const Ms32Params& p, const uint32_t* x_lo, const uint32_t* 
 // every bin j whose bit in `filled` is clear takes sig[p] if left_mask[j] is all
 // ones, else sig[q], where p and q are the nearest set bits to the left and right
 // of j, cyclically. REQUIRES: at least one bit of filled[0 .. ceil(k/64)) set;
-// left_mask[j] is 0 or 0xFFFFFFFF.
+// left_mask[j] is 0 or 0xFFFFFFFF; left_mask has k + kRotationPadding readable
+// entries (a gap's last partial vector is loaded whole, then stored masked).
+inline constexpr size_t kRotationPadding = 16;
 void RotateIntoEmptyBins(const uint64_t* filled, const uint32_t* left_mask, size_t k,
                          uint32_t* sig);
 

@@ -20,7 +20,7 @@ void SetBit(uint64_t* bits, uint32_t i) { bits[i >> 6] |= uint64_t{1} << (i & 63
 
 OnePermutationHasher::OnePermutationHasher(int num_bins, uint64_t seed, int probes)
     : num_bins_(num_bins), probes_(probes), words_((num_bins + 63) / 64),
-      probe_bins_(static_cast<size_t>(num_bins) * probes), left_mask_(num_bins) {
+      probe_bins_(static_cast<size_t>(num_bins) * probes), left_mask_(num_bins + kRotationPadding) {
   uint64_t state = seed;
   value_seed_ = SplitMix64(&state);
   // The probe sequences and rotation sides depend on the seed only: drawn once,

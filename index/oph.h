@@ -79,7 +79,7 @@ class OnePermutationHasher {
   size_t words_;                      // 64-bit words of a bin bitmap
   uint64_t value_seed_;
   std::vector<uint32_t> probe_bins_;  // probes_ bins per bin j: c_0..c_{probes-1}
-  std::vector<uint32_t> left_mask_;   // per bin: all ones if the fallback rotates left
+  std::vector<uint32_t> left_mask_;   // per bin: all ones if the fallback rotates left; kRotationPadding zeros after
 };
 
 }  // namespace shingleton
