@@ -527,6 +527,16 @@ Status IndexStore::Flush() {
 
 namespace {
 
+// Options of every sequential scan: 2 MiB readahead, no block cache fill (a scan
+// would only evict the blocks point reads want), across prefixes.
+rocksdb::ReadOptions SequentialReads() {
+  rocksdb::ReadOptions ro;
+  ro.fill_cache = false;
+  ro.readahead_size = 2 << 20;
+  ro.total_order_seek = true;
+  return ro;
+}
+
 // An iterator over one band of the postings, positioned at its first posting:
 // sequential (readahead, no block cache fill), across buckets.
 std::unique_ptr<rocksdb::Iterator> ScanBand(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* postings, int band,
@@ -535,11 +545,8 @@ std::unique_ptr<rocksdb::Iterator> ScanBand(rocksdb::DB* db, rocksdb::ColumnFami
   PutBigEndian16(&lo, static_cast<uint16_t>(band));
   PutBigEndian16(upper_key, static_cast<uint16_t>(band + 1));
   *upper = rocksdb::Slice(*upper_key);
-  rocksdb::ReadOptions ro;
+  rocksdb::ReadOptions ro = SequentialReads();  // across buckets, not one prefix
   if (band + 1 <= 0xFFFF) ro.iterate_upper_bound = upper;
-  ro.fill_cache = false;
-  ro.readahead_size = 2 << 20;
-  ro.total_order_seek = true;  // a scan across buckets, not one prefix
   std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(ro, postings));
   it->Seek(lo);
   return it;
@@ -619,11 +626,7 @@ namespace {
 
 // A sequential scan of a whole family, without filling the block cache.
 std::unique_ptr<rocksdb::Iterator> ScanAll(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* cf) {
-  rocksdb::ReadOptions ro;
-  ro.fill_cache = false;
-  ro.readahead_size = 2 << 20;
-  ro.total_order_seek = true;
-  std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(ro, cf));
+  std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(SequentialReads(), cf));
   it->SeekToFirst();
   return it;
 }
@@ -735,10 +738,7 @@ Status IndexStore::ReadInKeyOrder(rocksdb::ColumnFamilyHandle* cf, const std::ve
   // Doc keys are XXH3 hashes, uniform over 64 bits: the range holds about this many.
   const double in_range = static_cast<double>(entries) * (static_cast<double>(last - first) / 0x1p64);
   if (static_cast<double>(n) * kDenseReadRatio >= in_range) {
-    rocksdb::ReadOptions ro;
-    ro.fill_cache = false;
-    ro.readahead_size = 2 << 20;
-    std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, cf));
+    std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(SequentialReads(), cf));
     size_t j = 0;  // into order
     for (it->Seek(Key64(first)); it->Valid() && j < n; it->Next()) {
       if (it->key().size() != 8) return Status::Corruption("key of bad size in " + path_);
@@ -867,9 +867,7 @@ StatusOr<Decision> IndexStore::GetDecision(uint64_t key) const {
 }
 
 Status IndexStore::ForEachDocumentRecord(const DocumentRecordFn& fn, bool with_signatures) const {
-  rocksdb::ReadOptions ro;
-  ro.fill_cache = false;
-  ro.readahead_size = 2 << 20;
+  const rocksdb::ReadOptions ro = SequentialReads();
   std::unique_ptr<rocksdb::Iterator> sig_it(db_->NewIterator(ro, signatures_));
   std::unique_ptr<rocksdb::Iterator> dec_it(db_->NewIterator(ro, decisions_));
   sig_it->SeekToFirst();
