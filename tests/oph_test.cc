@@ -199,8 +199,8 @@ std::vector<uint32_t> OphByDefinition(const std::vector<uint64_t>& set, int k, u
 void CheckAgainstDefinition() {
   std::mt19937_64 rng(5);
   for (int probes : {0, 1, 4}) {
-    for (int k : {1, 7, 64, 200, 3000}) {
-      for (int n : {0, 1, 3, 50, 400, 5000}) {
+    for (int k : {1, 7, 64, 200, 3000, 9000}) {
+      for (int n : {0, 1, 3, 50, 220, 400, 5000}) {
         std::vector<uint64_t> set(n);
         for (uint64_t& x : set) x = rng();
         const uint64_t seed = rng();
