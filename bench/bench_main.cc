@@ -9,6 +9,7 @@
 #include <unistd.h>
 
 #include <CLI/CLI.hpp>
+#include <hwy/targets.h>
 
 #include "bench/bench_report.h"
 #include "index/atomic_file.h"
@@ -91,7 +92,12 @@ int main(int argc, char** argv) {
   bool list = false;
   app.add_flag("--list", list, "List the suites and exit");
   app.add_option("--work-dir", opt.work_dir, "Scratch directory (default: a new directory under $TMPDIR or /tmp)");
+  bool no_avx512 = false;
+  app.add_flag("--no-avx512", no_avx512,
+               "Run the vector kernels without AVX-512, as on a CPU that has only AVX2, to compare "
+               "the figures of both kinds of machine in one place (default: off; the best the CPU has)");
   CLI11_PARSE(app, argc, argv);
+  if (no_avx512) hwy::DisableTargets(HWY_AVX3 | HWY_AVX3_DL);
   if (list) {
     for (const Suite& s : Suites()) std::cout << s.name << "\n";
     return 0;
