@@ -486,9 +486,9 @@ void ServiceSuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
     r.note += split;
     r.note += "; ingest is CPU-bound on the same 2 cores as the signing (workers keep 4 batches in flight and "
               "concurrent batches share WAL syncs, so waiting is not the cost): every signature crosses loopback "
-              "gRPC twice and is stored on every shard and the coordinator, and each shard inserts 16/3 postings "
-              "per document into a skip-list memtable (half of a shard's CPU), where the embedded job writes "
-              "sorted SST runs without a WAL";
+              "gRPC twice and is stored on every shard and the coordinator (each a synced WAL write and a memtable "
+              "insert), and each shard appends 16/3 postings per document to a vector memtable that it sorts "
+              "and flushes when verification starts, where the embedded job writes sorted SST runs without a WAL";
   }
   rows->push_back(r);
   rows->push_back({"service_ingest", docs / t_ingest, "docs/s", "embedded_dedup", docs / t_embedded, 0,

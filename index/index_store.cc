@@ -49,17 +49,25 @@ std::string Key64(uint64_t k) {
 
 constexpr size_t kPostingPrefix = 10;  // band (u16) | bucket (u64)
 
-rocksdb::ColumnFamilyOptions FamilyOptions(const std::string& name, bool bulk_load) {
+// The memtable of a family: an unsorted vector (sorted once at flush) where the store
+// only appends and reads after a flush, else a skip list.
+enum class Memtable { kSkipList, kVector };
+
+Memtable MemtableOf(const std::string& name, const StoreOptions& options) {
+  if (options.read_only) return Memtable::kSkipList;
+  if (options.bulk_load) return Memtable::kVector;
+  return name == "postings" && options.append_postings ? Memtable::kVector : Memtable::kSkipList;
+}
+
+rocksdb::ColumnFamilyOptions FamilyOptions(const std::string& name, const StoreOptions& options) {
   rocksdb::ColumnFamilyOptions cf;
   cf.write_buffer_size = 64 << 20;
-  // A bulk build only appends and reads after a flush: an unsorted vector memtable
-  // (sorted once at flush) costs far less per insert than the default skip list.
-  // Its big families arrive as ingested SST files (BulkIndexWriter); compacting
-  // them while the job runs would only take CPU from signing, so compaction waits
-  // for a later open (or freeze's explicit Compact()).
-  if (bulk_load) {
+  // An append costs far less than a skip-list insert (a search of O(log n) random
+  // comparisons). A bulk build's big families arrive as ingested SST files
+  // (BulkIndexWriter); compacting them while the job runs would only take CPU from
+  // signing, so compaction waits for a later open (or freeze's explicit Compact()).
+  if (MemtableOf(name, options) == Memtable::kVector) {
     cf.memtable_factory = std::make_shared<rocksdb::VectorRepFactory>();
-    cf.disable_auto_compactions = true;
   } else {
     // Online writers (shards, coordinator) add a batch's entries in key order
     // (WriteBatchBuilder's callers sort them). With one insert hint per family the
@@ -67,7 +75,14 @@ rocksdb::ColumnFamilyOptions FamilyOptions(const std::string& name, bool bulk_lo
     // as needed (O(log distance)), instead of searching from the top for every key
     // that does not land right next to the previous one.
     cf.memtable_insert_with_hint_prefix_extractor.reset(rocksdb::NewFixedPrefixTransform(0));
+    // A coordinator looks up every arriving document, nearly all absent: a bloom
+    // filter (1.3 MiB per memtable) answers most of them without a skip-list search.
+    if (name == "docs") {
+      cf.memtable_prefix_bloom_size_ratio = 0.02;
+      cf.memtable_whole_key_filtering = true;
+    }
   }
+  if (options.bulk_load && !options.read_only) cf.disable_auto_compactions = true;
   rocksdb::BlockBasedTableOptions table;
   if (name == "postings") {
     // Buckets are read by prefix (band | bucket): a prefix bloom filter answers
@@ -143,6 +158,7 @@ void WriteBatchBuilder::AddPosting(int band, uint64_t bucket, uint64_t key) {
   PutBigEndian64(&key_, key);
   batch_->Put(store_->postings_, key_, rocksdb::Slice());
   ++count_;
+  has_postings_ = true;
 }
 
 void WriteBatchBuilder::AddContent(const DocumentMeta& doc) {
@@ -341,7 +357,9 @@ Status BulkIndexWriter::WriteRun(int family, Run* run_ptr, uint64_t number) {
   rocksdb::ColumnFamilyHandle* const handles[kBulkFamilies] = {
       store_->docs_, store_->signatures_, store_->postings_, store_->content_, store_->decisions_, store_->edges_};
   rocksdb::ColumnFamilyHandle* handle = handles[family];
-  rocksdb::Options options(rocksdb::DBOptions(), FamilyOptions(name, true));
+  StoreOptions bulk;
+  bulk.bulk_load = true;
+  rocksdb::Options options(rocksdb::DBOptions(), FamilyOptions(name, bulk));
   rocksdb::SstFileWriter writer(rocksdb::EnvOptions(), options, handle);
   SHINGLETON_RETURN_IF_ERROR(FromRocks(writer.Open(file), "creating " + file));
   // Keys with different 16-byte heads differ: the bytes are compared only on equal heads.
@@ -383,22 +401,30 @@ IndexStore::~IndexStore() {
 
 StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string& path,
                                                                bool create,
-                                                               const StoreOptions& options) {
+                                                               const StoreOptions& given) {
+  StoreOptions options = given;
+  // A read-only store writes nothing; a bulk build's memtables are vectors anyway.
+  if (options.read_only || options.bulk_load) options.append_postings = false;
   rocksdb::DBOptions db_options;
   db_options.create_if_missing = create;
   db_options.error_if_exists = create;
   db_options.create_missing_column_families = create;
   db_options.max_background_jobs = 2;
   if (options.read_only) db_options.info_log = std::make_shared<NullLogger>();
-  // Required by the vector memtable of bulk builds.
-  db_options.allow_concurrent_memtable_write = !options.bulk_load;
+  // A vector memtable takes one insert at a time: batches that commit together are
+  // inserted one after another (on 2 cores their parallel inserts gained nothing).
+  bool any_vector = false;
   std::vector<rocksdb::ColumnFamilyDescriptor> families;
   for (const char* name : kColumnFamilies) {
-    families.emplace_back(name, FamilyOptions(name, options.bulk_load && !options.read_only));
+    families.emplace_back(name, FamilyOptions(name, options));
+    any_vector |= MemtableOf(name, options) == Memtable::kVector;
   }
+  db_options.allow_concurrent_memtable_write = !any_vector;
   auto store = std::unique_ptr<IndexStore>(new IndexStore());
   store->path_ = path;
   store->options_ = options;
+  // Postings replayed from the WAL may sit in the memtable: the first read flushes.
+  store->unsorted_postings_ = options.append_postings;
   rocksdb::DB* raw = nullptr;
   rocksdb::Status s =
       options.read_only
@@ -486,9 +512,14 @@ Status IndexStore::Write(WriteBatchBuilder* batch) {
   rocksdb::WriteOptions wo;
   wo.disableWAL = options_.bulk_load;
   wo.sync = options_.sync_writes && !options_.bulk_load;
+  // Concurrent batches insert in parallel (no store-wide hint then): each keeps its
+  // own position, since its entries are in key order.
+  wo.memtable_insert_hint_per_batch = true;
+  if (batch->has_postings_ && options_.append_postings) unsorted_postings_ = true;
   Status s = FromRocks(db_->Write(wo, batch->batch_.get()), "writing to index " + path_);
   batch->batch_->Clear();
   batch->count_ = 0;
+  batch->has_postings_ = false;
   return s;
 }
 
@@ -519,6 +550,25 @@ StatusOr<std::string> IndexStore::GetMeta(const std::string& key) const {
   return v;
 }
 
+Status IndexStore::FlushUnsortedPostings() const {
+  if (!options_.append_postings) return Status::Ok();
+  // Held through the flush: a reader that finds the flag cleared must find the
+  // postings flushed too. A write during the flush sets the flag again.
+  std::lock_guard<std::mutex> lock(flush_mu_);
+  if (!unsorted_postings_.exchange(false)) return Status::Ok();
+  rocksdb::FlushOptions fo;
+  fo.wait = true;
+  Status s = FromRocks(db_->Flush(fo, postings_), "flushing postings of " + path_);
+  if (!s.ok()) unsorted_postings_ = true;
+  return s;
+}
+
+StatusOr<std::unique_ptr<rocksdb::Iterator>> IndexStore::NewPostingsIterator(
+    const rocksdb::ReadOptions& ro) const {
+  SHINGLETON_RETURN_IF_ERROR(FlushUnsortedPostings());
+  return std::unique_ptr<rocksdb::Iterator>(db_->NewIterator(ro, postings_));
+}
+
 Status IndexStore::Flush() {
   rocksdb::FlushOptions fo;
   fo.wait = true;
@@ -537,27 +587,25 @@ rocksdb::ReadOptions SequentialReads() {
   return ro;
 }
 
-// An iterator over one band of the postings, positioned at its first posting:
-// sequential (readahead, no block cache fill), across buckets.
-std::unique_ptr<rocksdb::Iterator> ScanBand(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* postings, int band,
-                                            std::string* upper_key, rocksdb::Slice* upper) {
+}  // namespace
+
+StatusOr<std::unique_ptr<rocksdb::Iterator>> IndexStore::ScanBand(int band, std::string* upper_key,
+                                                                  rocksdb::Slice* upper) const {
   std::string lo;
   PutBigEndian16(&lo, static_cast<uint16_t>(band));
   PutBigEndian16(upper_key, static_cast<uint16_t>(band + 1));
   *upper = rocksdb::Slice(*upper_key);
   rocksdb::ReadOptions ro = SequentialReads();  // across buckets, not one prefix
   if (band + 1 <= 0xFFFF) ro.iterate_upper_bound = upper;
-  std::unique_ptr<rocksdb::Iterator> it(db->NewIterator(ro, postings));
+  SHINGLETON_ASSIGN_OR_RETURN(auto it, NewPostingsIterator(ro));
   it->Seek(lo);
   return it;
 }
 
-}  // namespace
-
 Status IndexStore::ReadBand(int band, std::vector<std::pair<uint64_t, uint64_t>>* out) const {
   std::string upper_key;
   rocksdb::Slice upper;
-  auto it = ScanBand(db_.get(), postings_, band, &upper_key, &upper);
+  SHINGLETON_ASSIGN_OR_RETURN(auto it, ScanBand(band, &upper_key, &upper));
   for (; it->Valid(); it->Next()) {
     const rocksdb::Slice k = it->key();
     if (k.size() != 18) return Status::Corruption("posting key of size " + std::to_string(k.size()));
@@ -569,7 +617,7 @@ Status IndexStore::ReadBand(int band, std::vector<std::pair<uint64_t, uint64_t>>
 Status IndexStore::ForEachBucket(int band, size_t min_size, const BucketFn& fn) const {
   std::string upper_key;
   rocksdb::Slice upper;
-  auto it = ScanBand(db_.get(), postings_, band, &upper_key, &upper);
+  SHINGLETON_ASSIGN_OR_RETURN(auto it, ScanBand(band, &upper_key, &upper));
   std::vector<uint64_t> members;
   uint64_t current = 0;
   auto emit = [&]() -> Status {
@@ -684,7 +732,7 @@ StatusOr<std::vector<uint64_t>> IndexStore::BucketMembers(int band, uint64_t buc
   std::vector<uint64_t> out;
   rocksdb::ReadOptions ro;
   ro.prefix_same_as_start = true;
-  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
+  SHINGLETON_ASSIGN_OR_RETURN(auto it, NewPostingsIterator(ro));
   for (it->Seek(prefix); it->Valid() && it->key().starts_with(prefix); it->Next()) {
     if (it->key().size() != 18) return Status::Corruption("posting key of bad size");
     out.push_back(GetBigEndian64(it->key().data() + 10));
@@ -704,7 +752,7 @@ Status IndexStore::BucketMembersOf(const std::vector<BucketRef>& probes,
   });
   rocksdb::ReadOptions ro;
   ro.prefix_same_as_start = true;
-  std::unique_ptr<rocksdb::Iterator> it(db_->NewIterator(ro, postings_));
+  SHINGLETON_ASSIGN_OR_RETURN(auto it, NewPostingsIterator(ro));
   std::string prefix;
   for (size_t i : order) {
     prefix.clear();

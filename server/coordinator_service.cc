@@ -417,25 +417,17 @@ StatusOr<ReferenceCandidates> CoordinatorService::ShardNearHits(const Job& job, 
   return near;
 }
 
-StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
-    const v1::FinalizeRequest& req) {
-  const Clock::time_point start = Clock::now();
-  SHINGLETON_ASSIGN_OR_RETURN(Job * job, GetJob(req.job()));
-  std::unique_lock<std::mutex> lock(job->mu);
-  job->settled.wait(lock, [job] { return job->pending.empty(); });  // batches still being written
-  DedupSummary summary;
-  summary.scheme = job->scheme;
-
-  // 1. Every shard verifies its own buckets.
+StatusOr<std::vector<Edge>> CoordinatorService::VerifyOnShards(const Job& job,
+                                                               DedupSummary* summary) {
   const size_t n = shards_.size();
   std::vector<std::vector<Edge>> shard_edges(n);
   std::vector<uint64_t> buckets(n), comparisons(n);
   SHINGLETON_RETURN_IF_ERROR(ForEachShardParallel(n, [&](size_t i) -> Status {
     v1::VerifyRequest vr;
-    vr.set_job(job->name);
-    vr.set_threshold(job->params.threshold());
-    vr.set_all_pairs_limit(job->params.all_pairs_limit());
-    vr.set_max_leaders(job->params.max_leaders());
+    vr.set_job(job.name);
+    vr.set_threshold(job.params.threshold());
+    vr.set_all_pairs_limit(job.params.all_pairs_limit());
+    vr.set_max_leaders(job.params.max_leaders());
     grpc::ClientContext ctx;
     PrepareContext(&ctx, options_.shard_security, 3600);
     auto reader = shards_[i]->Verify(&ctx, vr);
@@ -459,27 +451,51 @@ StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
   std::vector<Edge> edges;
   for (size_t i = 0; i < n; ++i) {
     edges.insert(edges.end(), shard_edges[i].begin(), shard_edges[i].end());
-    summary.buckets_checked += buckets[i];
-    summary.comparisons += comparisons[i];
+    summary->buckets_checked += buckets[i];
+    summary->comparisons += comparisons[i];
   }
   DeduplicateEdges(&edges);
-  summary.edges = edges.size();
-  summary.seconds_candidates = std::chrono::duration<double>(Clock::now() - start).count();
+  summary->edges = edges.size();
+  return edges;
+}
 
-  // 2. Documents, clusters, decisions: the same library calls as the embedded job.
-  DocTable table(job->scheme.num_hashes);
-  std::vector<std::string> normalized_urls;
+Status CoordinatorService::LoadDocTable(const Job& job, DocTable* table,
+                                        std::vector<std::string>* normalized_urls,
+                                        uint64_t* empty_documents) const {
   // One key-order scan of documents and signatures (no point lookups).
-  SHINGLETON_RETURN_IF_ERROR(job->store->ForEachDocumentRecord([&](const DocumentMeta& meta, const Decision*,
-                                                                   const std::vector<uint32_t>& sig) -> Status {
-    if (sig.empty()) return Status::Corruption("document " + meta.id + " of job " + job->name + " has no signature");
-    if (meta.tokens == 0) ++summary.empty_documents;
+  return job.store->ForEachDocumentRecord([&](const DocumentMeta& meta, const Decision*,
+                                              const std::vector<uint32_t>& sig) -> Status {
+    if (sig.empty()) return Status::Corruption("document " + meta.id + " of job " + job.name + " has no signature");
+    if (meta.tokens == 0) ++*empty_documents;
     if (options_.url_revisits) {
       auto url = meta.url.empty() ? StatusOr<std::string>(std::string()) : NormalizeUrl(meta.url);
-      normalized_urls.push_back(url.ok() ? url.value() : std::string());
+      normalized_urls->push_back(url.ok() ? url.value() : std::string());
     }
-    return table.Add(meta, sig.data());
-  }));
+    return table->Add(meta, sig.data());
+  });
+}
+
+StatusOr<std::vector<v1::FinalizeResponse>> CoordinatorService::DoFinalize(
+    const v1::FinalizeRequest& req) {
+  const Clock::time_point start = Clock::now();
+  SHINGLETON_ASSIGN_OR_RETURN(Job * job, GetJob(req.job()));
+  std::unique_lock<std::mutex> lock(job->mu);
+  job->settled.wait(lock, [job] { return job->pending.empty(); });  // batches still being written
+  DedupSummary summary;
+  summary.scheme = job->scheme;
+
+  // 1. Every shard verifies its own buckets while 2. the documents are read here:
+  // independent halves, so the coordinator's scan fills the CPU the shards leave.
+  DocTable table(job->scheme.num_hashes);
+  std::vector<std::string> normalized_urls;
+  std::future<Status> loaded = std::async(std::launch::async, [&] {
+    return LoadDocTable(*job, &table, &normalized_urls, &summary.empty_documents);
+  });
+  StatusOr<std::vector<Edge>> verified = VerifyOnShards(*job, &summary);
+  summary.seconds_candidates = std::chrono::duration<double>(Clock::now() - start).count();
+  SHINGLETON_RETURN_IF_ERROR(loaded.get());
+  SHINGLETON_RETURN_IF_ERROR(verified.status());
+  std::vector<Edge> edges = std::move(verified).value();
   summary.records_read = summary.documents = table.size();
 
   // 3. Frozen references win over the crawl: the same steps as the embedded job.

@@ -28,6 +28,7 @@
 #include <unordered_set>
 #include <vector>
 
+#include "index/dedup_job.h"
 #include "index/index_store.h"
 #include "index/keep_policy.h"
 #include "index/reference_resolution.h"
@@ -110,6 +111,13 @@ class CoordinatorService final : public v1::Coordinator::CallbackService {
   // shards (each merges its buckets of the job with its part of the generation).
   StatusOr<ReferenceCandidates> ShardNearHits(const Job& job, const ReferenceSet& refs, const DocTable& table);
   Status WriteToShards(Job* job, const std::vector<const v1::SignedDocument*>& docs);
+  // Every shard verifies its own buckets: their edges, each pair once; adds the
+  // buckets checked, comparisons and edges to *summary.
+  StatusOr<std::vector<Edge>> VerifyOnShards(const Job& job, DedupSummary* summary);
+  // The job's documents and signatures into *table by one key-order scan, with their
+  // normalised URLs when url_revisits is on; counts documents without a token.
+  Status LoadDocTable(const Job& job, DocTable* table, std::vector<std::string>* normalized_urls,
+                      uint64_t* empty_documents) const;
 
   CoordinatorOptions options_;
   std::vector<std::unique_ptr<v1::IndexShard::Stub>> shards_;

@@ -58,6 +58,7 @@ StatusOr<IndexStore*> ShardService::StoreFor(const std::string& job, const std::
   const std::string path = db_dir_ + "/jobs/" + job;
   StoreOptions so;
   so.sync_writes = true;
+  so.append_postings = true;  // ingest, then verification: postings are read after the writes
   if (it == stores_.end()) {
     std::unique_ptr<IndexStore> store;
     if (fs::exists(path)) {

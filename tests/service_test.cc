@@ -337,6 +337,11 @@ TEST(ServiceTest, OversizedMessageAndDeadlineAreClearErrors) {
   EXPECT_EQ(big.exit_code, 1);
   EXPECT_NE(big.output.find("gRPC 8"), std::string::npos) << big.output;  // RESOURCE_EXHAUSTED
   EXPECT_NE(big.output.find("larger than max"), std::string::npos) << big.output;
+  // The refused batch created no job, and a finalize of no job may be refused within
+  // the deadline: small batches create it, so that the finalize has a job's work to do.
+  RunResult small = RunShingleton({"ingest", "--coordinator", cluster.coordinator(), "--job", "demo",
+                                   "--input", kCorpus, "--batch-docs", "64"});
+  ASSERT_EQ(small.exit_code, 0) << small.output << cluster.Logs();
   RunResult late = RunShingleton({"finalize", "--coordinator", cluster.coordinator(), "--job", "demo",
                                   "--out", dir.File("o"), "--deadline", "0.001"});
   EXPECT_EQ(late.exit_code, 1);
