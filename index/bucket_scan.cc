@@ -113,6 +113,9 @@ StatusOr<EdgeScan> VerifySharedBuckets(const SharedBuckets& shared, const Verify
     return Status::Ok();
   }));
   EdgeScan out;
+  size_t total = 0;
+  for (const auto& v : per_band) total += v.size();
+  out.edges.reserve(total);  // one allocation, not a doubling series of fresh pages
   for (auto& v : per_band) out.edges.insert(out.edges.end(), v.begin(), v.end());
   DeduplicateEdges(&out.edges);
   out.buckets_checked = shared.buckets();

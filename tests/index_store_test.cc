@@ -180,6 +180,33 @@ std::vector<std::tuple<int, uint64_t, std::vector<uint64_t>>> AllBuckets(const I
   return out;
 }
 
+// The bulk writer's contract for a repeated key (index_store.h): the last value
+// added wins, whether the repeats share a run or fall in runs written one after
+// another (each run reuses the last one's buffers).
+TEST(IndexStoreTest, BulkRepeatedKeyKeepsTheLastValue) {
+  TempDir dir;
+  StoreOptions bulk_options;
+  bulk_options.bulk_load = true;
+  auto store = IndexStore::Create(dir.File("bulk"), SmallScheme(), bulk_options);
+  ASSERT_TRUE(store.ok());
+  {
+    BulkIndexWriter bulk(store->get(), 4096);  // tiny runs
+    for (uint32_t round = 0; round < 3; ++round) {
+      for (uint32_t i = 0; i < 200; ++i) {
+        const uint32_t stale[8] = {99, 99, 99, 99, 99, 99, 99, 99};
+        if (i % 10 == 0) ASSERT_TRUE(bulk.AddSignature(i, stale, 8).ok());  // then again, same run
+        const uint32_t sig[8] = {round, i, round, i, round, i, round, i};
+        ASSERT_TRUE(bulk.AddSignature(i, sig, 8).ok());
+      }
+    }
+    ASSERT_TRUE(bulk.Finish().ok());
+    EXPECT_GT(bulk.files(), 3u);
+  }
+  for (uint32_t i = 0; i < 200; ++i) {
+    EXPECT_EQ(store.value()->GetSignature(i).value(), (std::vector<uint32_t>{2, i, 2, i, 2, i, 2, i})) << i;
+  }
+}
+
 // The bulk path (sorted runs as ingested SST files, several overlapping runs) and the
 // WriteBatch path must store the same postings and signatures: checked against each
 // other, and the batched reads (BucketMembersOf, GetSignatures, QueryIndex) against
