@@ -600,7 +600,8 @@ size_t RangeReadahead(rocksdb::DB* db, rocksdb::ColumnFamilyHandle* cf, double f
     if (level.level == 0) touched += level.files.size();
     else if (!level.files.empty()) ++touched;
   }
-  const double per_file = fraction * static_cast<double>(meta.size) / static_cast<double>(std::max<size_t>(touched, 1));
+  const double range_bytes = fraction * static_cast<double>(meta.size);
+  const double per_file = range_bytes / static_cast<double>(std::max<size_t>(touched, 1));
   return static_cast<size_t>(std::clamp(per_file, 64.0 * 1024, 2.0 * 1024 * 1024));
 }
 

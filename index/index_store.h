@@ -129,8 +129,8 @@ class WriteBatchBuilder {
 // A full run is sorted, written and ingested on a background thread while the next
 // one fills (at most one run in flight; a written run's buffers are reused by the
 // next, so memory stays below ~(families + 2) x 1.5 x buffer_bytes). Nothing is
-// visible until the run holding it has been ingested; Finish() ingests the rest. REQUIRES: the store was opened with bulk_load (no WAL,
-// no auto compaction).
+// visible until the run holding it has been ingested; Finish() ingests the rest.
+// REQUIRES: the store was opened with bulk_load (no WAL, no auto compaction).
 class BulkIndexWriter {
  public:
   // Default buffer: 96 MiB of keys, values and sort entries over all families.
