@@ -194,7 +194,9 @@ TEST(IndexStoreTest, BulkRepeatedKeyKeepsTheLastValue) {
     for (uint32_t round = 0; round < 3; ++round) {
       for (uint32_t i = 0; i < 200; ++i) {
         const uint32_t stale[8] = {99, 99, 99, 99, 99, 99, 99, 99};
-        if (i % 10 == 0) ASSERT_TRUE(bulk.AddSignature(i, stale, 8).ok());  // then again, same run
+        if (i % 10 == 0) {
+          ASSERT_TRUE(bulk.AddSignature(i, stale, 8).ok());  // then again, same run
+        }
         const uint32_t sig[8] = {round, i, round, i, round, i, round, i};
         ASSERT_TRUE(bulk.AddSignature(i, sig, 8).ok());
       }
@@ -309,7 +311,9 @@ TEST(IndexStoreTest, DenseAndSparseBatchedReadsEqualPointReads) {
     for (size_t i = 0; i < keys->size(); ++i) {
       auto one = s.GetSignature((*keys)[i]);
       ASSERT_EQ(found[i] != 0, one.ok()) << i;
-      if (one.ok()) EXPECT_EQ(std::vector<uint32_t>(sigs.begin() + 8 * i, sigs.begin() + 8 * i + 8), one.value());
+      if (one.ok()) {
+        EXPECT_EQ(std::vector<uint32_t>(sigs.begin() + 8 * i, sigs.begin() + 8 * i + 8), one.value());
+      }
     }
     std::vector<uint64_t> present;
     for (size_t i = 0; i < keys->size(); ++i) {
