@@ -9,6 +9,7 @@
 #include "index/bucket_scan.h"
 #include "index/clusters.h"
 #include "index/doc_table.h"
+#include "index/flat_map.h"
 #include "index/index_store.h"
 #include "index/json_writer.h"
 #include "index/manifest.h"
@@ -20,7 +21,7 @@
 #include <algorithm>
 #include <iterator>
 #include <memory>
-#include <unordered_map>
+#include <vector>
 
 namespace shingleton {
 namespace {
@@ -75,7 +76,7 @@ struct ContentKey {
   bool operator==(const ContentKey& o) const { return hi == o.hi && lo == o.lo; }
 };
 struct ContentKeyHash {
-  size_t operator()(const ContentKey& c) const { return c.hi ^ (c.lo * 0x9E3779B97F4A7C15ULL); }
+  uint64_t operator()(const ContentKey& c) const { return c.hi; }  // a uniform hash already
 };
 
 // What ingestion produces besides the store and the table.
@@ -86,9 +87,9 @@ struct IngestOutput {
 
 Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, DocTable* table,
               DedupSummary* summary, IngestOutput* out, Clock::time_point start) {
-  // The first document with each normalised text; later identical ones join it
-  // directly and write no postings (the exact fast path).
-  std::unordered_map<ContentKey, uint64_t, ContentKeyHash> first_with_content;
+  // The first document with each normalised text (its table index); later identical
+  // ones join it directly and write no postings (the exact fast path).
+  FlatMap<ContentKey, uint32_t, ContentKeyHash> first_with_content;
   const SketchScheme& scheme = store->scheme();
   const int k = scheme.num_hashes, b = scheme.bands;
   // Documents, signatures and postings go to sorted SST runs, not the memtable.
@@ -130,7 +131,8 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
         auto url = meta.url.empty() ? StatusOr<std::string>(std::string()) : NormalizeUrl(meta.url);
         out->normalized_urls.push_back(url.ok() ? url.value() : std::string());
       }
-      auto [first, fresh] = first_with_content.emplace(ContentKey{meta.content_hi, meta.content_lo}, meta.key);
+      auto [first, fresh] = first_with_content.emplace(ContentKey{meta.content_hi, meta.content_lo},
+                                                       static_cast<uint32_t>(meta.ordinal));
       SHINGLETON_RETURN_IF_ERROR(bulk.AddMeta(meta));
       SHINGLETON_RETURN_IF_ERROR(bulk.AddSignature(meta.key, signed_batch.sig(i, k), k));
       if (fresh) {
@@ -139,8 +141,9 @@ Status Ingest(const DedupOptions& o, uint64_t total_bytes, IndexStore* store, Do
         continue;
       }
       Edge e;
-      e.a = std::min(meta.key, first->second);
-      e.b = std::max(meta.key, first->second);
+      const uint64_t first_key = table->key(*first);
+      e.a = std::min(meta.key, first_key);
+      e.b = std::max(meta.key, first_key);
       e.similarity = 1.0f;
       e.band = Edge::kExactBand;
       out->exact_edges.push_back(e);

@@ -5,9 +5,9 @@
 namespace shingleton {
 
 Status DocTable::Add(const DocumentMeta& doc, const uint32_t* sig) {
-  auto [it, inserted] = index_.emplace(doc.key, static_cast<uint32_t>(records_.size()));
+  auto [held, inserted] = index_.emplace(doc.key, static_cast<uint32_t>(records_.size()));
   if (!inserted) {
-    const DocumentMeta other = this->doc(it->second);
+    const DocumentMeta other = this->doc(*held);
     if (other.id == doc.id) {
       return Status::AlreadyExists("duplicate id \"" + doc.id + "\" at " + doc.source +
                                    " (first seen at " + other.source + ")");

@@ -18,11 +18,11 @@
 
 #include <cstdint>
 #include <string>
-#include <unordered_map>
 #include <utility>
 #include <vector>
 
 #include "index/document.h"
+#include "index/flat_map.h"
 #include "index/status.h"
 
 namespace shingleton {
@@ -58,8 +58,8 @@ class DocTable {
   }
   // Dense index of a key, or -1.
   int64_t IndexOf(uint64_t key) const {
-    auto it = index_.find(key);
-    return it == index_.end() ? -1 : static_cast<int64_t>(it->second);
+    const uint32_t* i = index_.find(key);
+    return i == nullptr ? -1 : static_cast<int64_t>(*i);
   }
   const uint32_t* SignatureOf(uint64_t key) const {
     int64_t i = IndexOf(key);
@@ -83,7 +83,7 @@ class DocTable {
   std::vector<Record> records_;
   std::string arena_;
   std::vector<uint32_t> sigs_;
-  std::unordered_map<uint64_t, uint32_t> index_;
+  FlatMap<uint64_t, uint32_t, IdentityHash64> index_;  // key -> dense index
 };
 
 }  // namespace shingleton
