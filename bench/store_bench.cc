@@ -402,6 +402,84 @@ std::set<std::string> KeptIds(const std::string& dir) {
   return out;
 }
 
+// One measured pair: the embedded job, then the service on the same corpus.
+struct ServicePair {
+  double t_embedded = 0, t_ingest = 0, t_service = 0;  // seconds
+  uint64_t lo_ingest = 0, lo_total = 0;               // loopback bytes
+  uint64_t coord_growth = 0, shard_rss = 0;           // bytes
+  uint64_t shard_disk = 0, coord_disk = 0, embedded_disk = 0;
+  int rc = 0;
+  bool same_decisions = true;
+  double ratio() const { return t_service > 0 ? t_embedded / t_service : 0; }
+};
+
+uint64_t DirBytes(const std::string& path) {
+  uint64_t n = 0;
+  std::error_code ec;
+  for (auto it = fs::recursive_directory_iterator(path, ec); !ec && it != fs::recursive_directory_iterator();
+       it.increment(ec)) {
+    if (it->is_regular_file(ec)) n += it->file_size(ec);
+  }
+  return n;
+}
+
+// Runs the embedded job and then the service (3 shards, coordinator, 2 workers with
+// one thread each, finalize) on `dir`/crawl.jsonl, split into part0/part1; servers
+// and outputs live under `run_dir`, removed afterwards.
+ServicePair RunServicePair(const std::string& bin, const std::string& dir, const std::string& run_dir) {
+  ServicePair p;
+  fs::remove_all(run_dir);
+  fs::create_directories(run_dir);
+  const std::string log = run_dir + "/bench.log";
+  // Embedded: the same binary, the same corpus, every core.
+  double t0 = NowSeconds();
+  p.rc = Run(bin, {"dedup", "--input", dir + "/crawl.jsonl", "--out", run_dir + "/embedded", "-q"}, log);
+  p.t_embedded = NowSeconds() - t0;
+
+  std::vector<std::unique_ptr<Child>> shards;
+  std::string list;
+  for (int i = 0; i < 3; ++i) {
+    const std::string n = std::to_string(i), port = run_dir + "/shard" + n + ".port";
+    shards.push_back(std::make_unique<Child>());
+    shards.back()->Start(bin, {"shard", "--listen", "127.0.0.1:0", "--db", run_dir + "/shard" + n, "--port-file",
+                               port},
+                         run_dir + "/shard" + n + ".log");
+    std::string addr = WaitForPort(port);
+    list += (i ? "," : "") + addr;
+  }
+  Child coordinator;
+  coordinator.Start(bin, {"coordinator", "--listen", "127.0.0.1:0", "--shards", list, "--state", run_dir + "/coord",
+                          "--port-file", run_dir + "/coord.port"},
+                    run_dir + "/coord.log");
+  const std::string caddr = WaitForPort(run_dir + "/coord.port");
+  const uint64_t coord_rss0 = PeakRss(coordinator.pid());
+  const uint64_t lo0 = LoopbackBytes();
+  t0 = NowSeconds();
+  Child w0, w1;
+  w0.Start(bin, {"ingest", "--coordinator", caddr, "--job", "bench", "--input", dir + "/part0.jsonl", "--worker", "w0",
+                 "--threads", "1"}, run_dir + "/w0.log");
+  w1.Start(bin, {"ingest", "--coordinator", caddr, "--job", "bench", "--input", dir + "/part1.jsonl", "--worker", "w1",
+                 "--threads", "1"}, run_dir + "/w1.log");
+  p.rc |= w0.Wait() | w1.Wait();
+  p.t_ingest = NowSeconds() - t0;
+  p.lo_ingest = LoopbackBytes() - lo0;
+  p.rc |= Run(bin, {"finalize", "--coordinator", caddr, "--job", "bench", "--out", run_dir + "/service"},
+              run_dir + "/fin.log");
+  p.t_service = NowSeconds() - t0;
+  p.lo_total = LoopbackBytes() - lo0;
+  const uint64_t coord_rss = PeakRss(coordinator.pid());
+  p.coord_growth = coord_rss > coord_rss0 ? coord_rss - coord_rss0 : 0;
+  for (int i = 0; i < 3; ++i) p.shard_disk += DirBytes(run_dir + "/shard" + std::to_string(i));
+  p.coord_disk = DirBytes(run_dir + "/coord");
+  p.embedded_disk = DirBytes(run_dir + "/embedded/index");
+  for (auto& s : shards) p.shard_rss = std::max(p.shard_rss, PeakRss(s->pid()));
+  coordinator.Terminate();
+  for (auto& s : shards) s->Terminate();
+  p.same_decisions = KeptIds(run_dir + "/service") == KeptIds(run_dir + "/embedded");
+  if (p.rc == 0) fs::remove_all(run_dir);  // kept, with its logs, when a command failed
+  return p;
+}
+
 void ServiceSuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
   const std::string bin = opt.bin_dir + "/shingleton";
   const std::string gen = opt.bin_dir + "/shingleton-demo-gen";
@@ -423,66 +501,33 @@ void ServiceSuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
     size_t i = 0;
     for (std::string line; std::getline(in, line); ++i) (i % 2 ? p1 : p0) << line << "\n";
   }
-  // Embedded: the same binary, the same corpus, every core.
-  double t0 = NowSeconds();
-  int rc = Run(bin, {"dedup", "--input", corpus, "--out", dir + "/embedded", "-q"}, log);
-  const double t_embedded = NowSeconds() - t0;
-
-  std::vector<std::unique_ptr<Child>> shards;
-  std::string list;
-  for (int i = 0; i < 3; ++i) {
-    const std::string n = std::to_string(i), port = dir + "/shard" + n + ".port";
-    shards.push_back(std::make_unique<Child>());
-    shards.back()->Start(bin, {"shard", "--listen", "127.0.0.1:0", "--db", dir + "/shard" + n, "--port-file", port},
-                         dir + "/shard" + n + ".log");
-    std::string addr = WaitForPort(port);
-    list += (i ? "," : "") + addr;
+  // Six processes share the 2 cores during the service run, and single runs' ratios
+  // spread from 0.43 to 0.65 on one day's shared machine (2026-12-05): the figure is
+  // the pair with the median ratio, its range in the note.
+  const int pairs = opt.quick ? 1 : 5;
+  std::vector<ServicePair> runs;
+  for (int i = 0; i < pairs; ++i) runs.push_back(RunServicePair(bin, dir, dir + "/run" + std::to_string(i)));
+  std::sort(runs.begin(), runs.end(), [](const ServicePair& a, const ServicePair& b) { return a.ratio() < b.ratio(); });
+  const ServicePair& p = runs[runs.size() / 2];
+  int rc = 0;
+  bool same = true;
+  for (const ServicePair& r : runs) {
+    rc |= r.rc;
+    same = same && r.same_decisions;
   }
-  Child coordinator;
-  coordinator.Start(bin, {"coordinator", "--listen", "127.0.0.1:0", "--shards", list, "--state", dir + "/coord",
-                          "--port-file", dir + "/coord.port"},
-                    dir + "/coord.log");
-  const std::string caddr = WaitForPort(dir + "/coord.port");
-  const uint64_t coord_rss0 = PeakRss(coordinator.pid());
-  const uint64_t lo0 = LoopbackBytes();
-  t0 = NowSeconds();
-  Child w0, w1;
-  w0.Start(bin, {"ingest", "--coordinator", caddr, "--job", "bench", "--input", dir + "/part0.jsonl", "--worker", "w0",
-                 "--threads", "1"}, dir + "/w0.log");
-  w1.Start(bin, {"ingest", "--coordinator", caddr, "--job", "bench", "--input", dir + "/part1.jsonl", "--worker", "w1",
-                 "--threads", "1"}, dir + "/w1.log");
-  rc |= w0.Wait() | w1.Wait();
-  const double t_ingest = NowSeconds() - t0;
-  const uint64_t lo_ingest = LoopbackBytes() - lo0;
-  rc |= Run(bin, {"finalize", "--coordinator", caddr, "--job", "bench", "--out", dir + "/service"}, dir + "/fin.log");
-  const double t_service = NowSeconds() - t0;
-  const uint64_t lo_total = LoopbackBytes() - lo0;
-  const uint64_t coord_rss = PeakRss(coordinator.pid());
-  auto dir_bytes = [](const std::string& path) {
-    uint64_t n = 0;
-    std::error_code ec;
-    for (auto it = fs::recursive_directory_iterator(path, ec); !ec && it != fs::recursive_directory_iterator();
-         it.increment(ec)) {
-      if (it->is_regular_file(ec)) n += it->file_size(ec);
-    }
-    return n;
-  };
-  uint64_t shard_disk = 0;
-  for (int i = 0; i < 3; ++i) shard_disk += dir_bytes(dir + "/shard" + std::to_string(i));
-  const uint64_t coord_disk = dir_bytes(dir + "/coord"), embedded_disk = dir_bytes(dir + "/embedded/index");
-  uint64_t shard_rss = 0;
-  for (auto& s : shards) shard_rss = std::max(shard_rss, PeakRss(s->pid()));
-  coordinator.Terminate();
-  for (auto& s : shards) s->Terminate();
 
-  BenchRow r{"service_vs_embedded", docs / t_service, "docs/s", "embedded_dedup", docs / t_embedded, 0.6,
+  char spread[128];
+  std::snprintf(spread, sizeof spread, "median of %d pairs (ratios %.2f..%.2f)", pairs, runs.front().ratio(),
+                runs.back().ratio());
+  BenchRow r{"service_vs_embedded", docs / p.t_service, "docs/s", "embedded_dedup", docs / p.t_embedded, 0.6,
              std::to_string(docs) + " demo docs; 3 shards + coordinator + 2 workers (1 thread each) + finalize, " +
-                 "servers on one 2-core machine with the workers"};
+                 "servers on one 2-core machine with the workers; " + spread};
   if (rc != 0) r.note = "a command failed (logs in " + dir + "); " + r.note;
-  if (KeptIds(dir + "/service") != KeptIds(dir + "/embedded")) r.note = "DECISIONS DIFFER; " + r.note;
+  if (!same) r.note = "DECISIONS DIFFER; " + r.note;
   if (r.ratio() < 0.6) {
     char split[160];
-    std::snprintf(split, sizeof split, "; below goal: finalize %.1f s of %.1f s", t_service - t_ingest, t_service);
+    std::snprintf(split, sizeof split, "; below goal: finalize %.2f s of %.2f s", p.t_service - p.t_ingest,
+                  p.t_service);
     r.note += split;
     r.note += "; ingest is CPU-bound on the same 2 cores as the signing (workers keep 4 batches in flight and "
               "concurrent batches share WAL syncs, so waiting is not the cost): every signature crosses loopback "
@@ -491,22 +536,21 @@ void ServiceSuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
               "and flushes when verification starts, where the embedded job writes sorted SST runs without a WAL";
   }
   rows->push_back(r);
-  rows->push_back({"service_ingest", docs / t_ingest, "docs/s", "embedded_dedup", docs / t_embedded, 0,
-                   "ingest only (2 workers), without finalize"});
-  rows->push_back({"service_net_bytes_per_doc", static_cast<double>(lo_total) / docs, "B/doc", "", 0, 0,
-                   "loopback bytes received during ingest + finalize (" + std::to_string(lo_ingest / docs) +
+  rows->push_back({"service_ingest", docs / p.t_ingest, "docs/s", "embedded_dedup", docs / p.t_embedded, 0,
+                   "ingest only (2 workers), without finalize; the same pair"});
+  rows->push_back({"service_net_bytes_per_doc", static_cast<double>(p.lo_total) / docs, "B/doc", "", 0, 0,
+                   "loopback bytes received during ingest + finalize (" + std::to_string(p.lo_ingest / docs) +
                        " B/doc in ingest); an upper bound: other loopback traffic of the machine counts too"});
-  rows->push_back({"coordinator_bytes_per_doc",
-                   static_cast<double>(coord_rss > coord_rss0 ? coord_rss - coord_rss0 : 0) / docs, "B/doc", "", 0, 0,
+  rows->push_back({"coordinator_bytes_per_doc", static_cast<double>(p.coord_growth) / docs, "B/doc", "", 0, 0,
                    "coordinator peak RSS growth over the job (incl. finalize), per document; shard peak RSS " +
-                       std::to_string(shard_rss >> 20) + " MiB"});
-  rows->push_back({"service_disk_bytes_per_doc", static_cast<double>(shard_disk + coord_disk) / docs, "B/doc", "", 0,
-                   0,
-                   "embedded index " + std::to_string(embedded_disk / docs) + " B/doc; 3 shards " +
-                       std::to_string(shard_disk / docs) + " B/doc + coordinator " +
-                       std::to_string(coord_disk / docs) + " B/doc (a signature is stored on every shard that "
+                       std::to_string(p.shard_rss >> 20) + " MiB"});
+  rows->push_back({"service_disk_bytes_per_doc", static_cast<double>(p.shard_disk + p.coord_disk) / docs, "B/doc", "",
+                   0, 0,
+                   "embedded index " + std::to_string(p.embedded_disk / docs) + " B/doc; 3 shards " +
+                       std::to_string(p.shard_disk / docs) + " B/doc + coordinator " +
+                       std::to_string(p.coord_disk / docs) + " B/doc (a signature is stored on every shard that "
                        "holds one of the document's postings, and on the coordinator)"});
-  fs::remove_all(dir);
+  if (rc == 0) fs::remove_all(dir);
 }
 
 SHINGLETON_BENCH_SUITE(index_insert, IndexInsertSuite);
