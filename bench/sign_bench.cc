@@ -117,7 +117,7 @@ Pass ScalarMinHashPass(const Corpus& c, const SketchScheme& scheme) {
       norm->Normalize(text, &t);
       ShingleHashes(t, scheme.shingle_kind, scheme.shingle_size, scheme.seed, &shingles);
       hasher->SignScalar(shingles.data(), shingles.size(), sig.data());
-      for (int b = 0; b < scheme.bands; ++b) buckets[b] = BandBucket(sig.data(), b, scheme.rows, scheme.seed);
+      BandBuckets(sig.data(), scheme.bands, scheme.rows, scheme.seed, buckets.data());
       acc ^= buckets[0];
     }
     g_sink = acc;

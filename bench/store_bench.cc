@@ -64,7 +64,7 @@ struct Corpus {
 };
 
 void SignInto(const SketchScheme& s, const uint32_t* sig, uint64_t* buckets) {
-  for (int band = 0; band < s.bands; ++band) buckets[band] = BandBucket(sig, band, s.rows, s.seed);
+  BandBuckets(sig, s.bands, s.rows, s.seed, buckets);
 }
 
 Corpus MakeCorpus(size_t n, uint64_t seed, size_t family = 4) {

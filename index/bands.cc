@@ -107,4 +107,10 @@ uint64_t BandBucket(const uint32_t* sig, int band, int rows, uint64_t seed) {
 #endif
 }
 
+void BandBuckets(const uint32_t* sig, int bands, int rows, uint64_t seed, uint64_t* buckets) {
+  // One loop around the inlined hash: the length-dependent branches of XXH3 are the
+  // same for every band (409 bands of 22 values at k = 9000).
+  for (int band = 0; band < bands; ++band) buckets[band] = BandBucket(sig, band, rows, seed);
+}
+
 }  // namespace shingleton

@@ -42,4 +42,7 @@ Banding EvaluateBanding(double threshold, int bands, int rows);
 // (little-endian bytes) under seed + band. `sig` points at the whole signature.
 uint64_t BandBucket(const uint32_t* sig, int band, int rows, uint64_t seed);
 
+// Every band's bucket: buckets[b] = BandBucket(sig, b, rows, seed) for b < bands.
+void BandBuckets(const uint32_t* sig, int bands, int rows, uint64_t seed, uint64_t* buckets);
+
 }  // namespace shingleton

@@ -154,7 +154,7 @@ StatusOr<GenerationRecord> FreezeGeneration(const FreezeOptions& o) {
         if (!d->kept()) return Status::Ok();
       }
       if (sig.empty()) return Status::Corruption("document " + doc.id + " has no signature in " + o.index_path);
-      for (int b = 0; b < scheme.bands; ++b) buckets[b] = BandBucket(sig.data(), b, scheme.rows, scheme.seed);
+      BandBuckets(sig.data(), scheme.bands, scheme.rows, scheme.seed, buckets.data());
       batch.AddDocument(doc, sig.data(), scheme.num_hashes, buckets.data());
       batch.AddContent(doc);
       if (!doc.url.empty()) {

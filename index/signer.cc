@@ -28,9 +28,7 @@ size_t Signer::Sign(std::string_view text, uint32_t* sig, uint64_t* buckets, uin
   } else {
     minhash_->Sign(shingles_.data(), shingles_.size(), sig);
   }
-  for (int band = 0; band < scheme_.bands; ++band) {
-    buckets[band] = BandBucket(sig, band, scheme_.rows, scheme_.seed);
-  }
+  BandBuckets(sig, scheme_.bands, scheme_.rows, scheme_.seed, buckets);
   return normalized_.num_tokens();
 }
 

@@ -81,10 +81,11 @@ TEST(DocKeyTest, IsXxh3OfIdBytesSeedZero) {
 }
 
 // bands.h: a bucket is XXH3-64 of the band's r 32-bit values as little-endian
-// bytes, under seed + band. The bytes are built here independently.
+// bytes, under seed + band. The bytes are built here independently. BandBuckets
+// (all bands at once) must give the same value for every band.
 TEST(BandBucketTest, IsXxh3OfLittleEndianRowsSeedPlusBand) {
   uint64_t state = 12345;
-  std::vector<uint32_t> sig(256);
+  std::vector<uint32_t> sig(9000);
   for (uint32_t& v : sig) v = static_cast<uint32_t>(SplitMix64(&state) >> 7);
   sig[0] = 0;
   sig[1] = 0xFFFFFFFFU;
@@ -95,10 +96,12 @@ TEST(BandBucketTest, IsXxh3OfLittleEndianRowsSeedPlusBand) {
     int rows;
   };
   const std::vector<Layout> layouts = {{20, 5},  {16, 8},  {256, 1},
-                                       {1, 256}, {2, 100}, {32, 8}};
+                                       {1, 256}, {2, 100}, {32, 8}, {409, 22}};
   const std::vector<uint64_t> seeds = {0, 1, 0x5348494e47ULL, ~0ULL - 3};
   for (const Layout& l : layouts) {
     for (uint64_t seed : seeds) {
+      std::vector<uint64_t> all(l.bands);
+      BandBuckets(sig.data(), l.bands, l.rows, seed, all.data());
       for (int band = 0; band < l.bands; ++band) {
         std::vector<uint8_t> bytes;
         for (int i = 0; i < l.rows; ++i) {
@@ -111,6 +114,7 @@ TEST(BandBucketTest, IsXxh3OfLittleEndianRowsSeedPlusBand) {
             bytes.data(), bytes.size(), seed + static_cast<uint64_t>(band));
         ASSERT_EQ(BandBucket(sig.data(), band, l.rows, seed), expected)
             << l.bands << "x" << l.rows << " band " << band << " seed " << seed;
+        ASSERT_EQ(all[band], expected) << "BandBuckets, " << l.bands << "x" << l.rows << " band " << band;
       }
     }
   }
