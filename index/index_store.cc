@@ -16,6 +16,7 @@
 #include <numeric>
 
 #include "index/coding.h"
+#include "index/wal_pages.h"
 
 namespace shingleton {
 namespace {
@@ -438,6 +439,8 @@ StatusOr<std::unique_ptr<IndexStore>> IndexStore::OpenInternal(const std::string
   db_options.create_missing_column_families = create;
   db_options.max_background_jobs = 2;
   if (options.read_only) db_options.info_log = std::make_shared<NullLogger>();
+  // Synced WALs are read back only in recovery: their pages go back to the kernel.
+  if (options.sync_writes && !options.read_only && !options.bulk_load) db_options.env = WalPageDroppingEnv();
   // A vector memtable takes one insert at a time: batches that commit together are
   // inserted one after another (on 2 cores their parallel inserts gained nothing).
   bool any_vector = false;
