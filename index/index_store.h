@@ -44,6 +44,7 @@ class ColumnFamilyHandle;
 class Iterator;
 struct ReadOptions;
 class Slice;
+class SstFileWriter;
 class WriteBatch;
 }  // namespace rocksdb
 
@@ -159,6 +160,10 @@ class BulkIndexWriter {
   Status WaitForWriter();
   // Sorts, writes and ingests one run as SST file number `number`.
   Status WriteRun(int family, Run* run, uint64_t number);
+  // Sort one run in key order and put it into `writer` (named `file` in errors).
+  static Status PutEntries(Run* run, rocksdb::SstFileWriter* writer, const std::string& file);
+  static Status PutPostings(Run* run, rocksdb::SstFileWriter* writer, const std::string& file);
+  Status Added(size_t bytes);  // accounts an added entry; may start a run
 
   class IndexStore* store_;
   size_t buffer_bytes_;
@@ -168,6 +173,7 @@ class BulkIndexWriter {
   uint64_t next_file_ = 0;
   std::unique_ptr<Run> writing_;  // the run the background writer owns
   std::unique_ptr<Run> spare_;    // the last written run, emptied: the next run's buffers
+  int writing_family_ = 0, spare_family_ = 0;
   std::thread writer_;
   Status writer_status_;          // set by the writer; read after joining it
   std::string key_, value_;  // scratch

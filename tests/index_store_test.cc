@@ -200,6 +200,11 @@ TEST(IndexStoreTest, BulkRepeatedKeyKeepsTheLastValue) {
         }
         const uint32_t sig[8] = {round, i, round, i, round, i, round, i};
         ASSERT_TRUE(bulk.AddSignature(i, sig, 8).ok());
+        // A posting (held apart from the other families' entries) repeats too.
+        if (i % 10 == 0) {
+          ASSERT_TRUE(bulk.AddPosting(1, i % 7, i).ok());
+        }
+        ASSERT_TRUE(bulk.AddPosting(1, i % 7, i).ok());
       }
     }
     ASSERT_TRUE(bulk.Finish().ok());
@@ -208,6 +213,12 @@ TEST(IndexStoreTest, BulkRepeatedKeyKeepsTheLastValue) {
   for (uint32_t i = 0; i < 200; ++i) {
     EXPECT_EQ(store.value()->GetSignature(i).value(), (std::vector<uint32_t>{2, i, 2, i, 2, i, 2, i})) << i;
   }
+  // Band 1 holds each posting once, in key order (bucket, then document).
+  std::vector<std::pair<uint64_t, uint64_t>> band, want;
+  ASSERT_TRUE(store.value()->ReadBand(1, &band).ok());
+  for (uint64_t i = 0; i < 200; ++i) want.emplace_back(i % 7, i);
+  std::sort(want.begin(), want.end());
+  EXPECT_EQ(band, want);
 }
 
 // The bulk path (sorted runs as ingested SST files, several overlapping runs) and the
