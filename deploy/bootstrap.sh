@@ -4,6 +4,7 @@
 #   usage: bash deploy/bootstrap.sh [TARGET ...]     (default: every target, tests included)
 # Environment: BUILD_DIR (default build), BUILD_TYPE (default Release), JOBS (default nproc).
 set -euo pipefail
+case "${1:-}" in -h | --help) sed -n '2,/^[^#]/s/^# \{0,1\}//p' "$0"; exit 0 ;; esac  # --help: the header comment
 cd "$(dirname "$0")/.."
 
 PACKAGES=(

@@ -117,5 +117,6 @@ case "${1:-}" in
   start) start "${2:-}" ;;
   status) status ;;
   stop) stop ;;
+  -h | --help) sed -n '2,16p' "$0" | sed 's/^# \{0,1\}//' ;;
   *) usage ;;
 esac

@@ -24,6 +24,7 @@
 #   BUILD_DIR  build
 # The machine is shared: the load average is printed before and after each run.
 set -euo pipefail
+case "${1:-}" in -h | --help) sed -n '2,/^[^#]/s/^# \{0,1\}//p' "$0"; exit 0 ;; esac  # --help: the header comment
 cd "$(dirname "$0")/.."
 BUILD_DIR=${BUILD_DIR:-build}
 SCALE_DIR=${SCALE_DIR:-/tmp/shingleton-scale}

@@ -2,6 +2,7 @@
 # Builds Shingleton with its tests and runs the whole suite (CTest). Exits non-zero
 # when any test fails.
 set -euo pipefail
+case "${1:-}" in -h | --help) sed -n '2,/^[^#]/s/^# \{0,1\}//p' "$0"; exit 0 ;; esac  # --help: the header comment
 cd "$(dirname "$0")/.."
 bash deploy/bootstrap.sh
 BUILD_DIR=${BUILD_DIR:-build}
