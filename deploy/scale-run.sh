@@ -31,6 +31,7 @@ SCALE_DIR=${SCALE_DIR:-/tmp/shingleton-scale}
 DOCS=${DOCS:-1000000}
 THREADS=${THREADS:-0}
 REPEAT=${REPEAT:-5}
+[[ "$REPEAT" =~ ^[1-9][0-9]*$ ]] || { echo "scale-run: REPEAT must be 1 or more (got '$REPEAT')" >&2; exit 2; }
 BIN=$BUILD_DIR/bin/shingleton
 GEN=$BUILD_DIR/bin/shingleton-demo-gen
 [ -x "$BIN" ] && [ -x "$GEN" ] || bash deploy/bootstrap.sh shingleton shingleton-demo-gen

@@ -109,7 +109,7 @@ uint64_t BandBucket(const uint32_t* sig, int band, int rows, uint64_t seed) {
 
 void BandBuckets(const uint32_t* sig, int bands, int rows, uint64_t seed, uint64_t* buckets) {
   // One loop around the inlined hash: the length-dependent branches of XXH3 are the
-  // same for every band (409 bands of 22 values at k = 9000).
+  // same for every band (e.g. 409 bands of 22 values with --hashes 9000).
   for (int band = 0; band < bands; ++band) buckets[band] = BandBucket(sig, band, rows, seed);
 }
 

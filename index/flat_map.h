@@ -4,7 +4,8 @@
 // (document keys, content hashes): Hash only has to pick 64 of their bits, and
 // Fibonacci hashing spreads those over the slots.
 //
-// Grows by doubling; no erase. Pointers to values are valid until the next insert.
+// Grows by doubling; no erase. Pointers to values are valid until the next insert of
+// a new key.
 // Thread safety: const methods are safe to call concurrently; inserts need
 // exclusive access.
 #pragma once
@@ -22,9 +23,12 @@ class FlatMap {
   // Inserts key -> value unless the key is present. Returns the value held for the
   // key (the new or the old one) and whether it was inserted.
   std::pair<Value*, bool> emplace(const Key& key, const Value& value) {
+    if (!slots_.empty()) {
+      Slot& s = slots_[SlotOf(key)];
+      if (s.used) return {&s.value, false};
+    }
     if (2 * (size_ + 1) > slots_.size()) Rehash(slots_.empty() ? 16 : 2 * slots_.size());
     Slot& s = slots_[SlotOf(key)];
-    if (s.used) return {&s.value, false};
     s = Slot{key, value, true};
     ++size_;
     return {&s.value, true};

@@ -129,7 +129,8 @@ class WriteBatchBuilder {
 // the DocTable refuses duplicates); a repeated key keeps the last value.
 // A full run is sorted, written and ingested on a background thread while the next
 // one fills (at most one run in flight; a written run's buffers are reused by the
-// next, so memory stays below ~(families + 2) x 1.5 x buffer_bytes). Nothing is
+// next run of the same kind, postings or the rest, so memory stays below
+// ~(families + 2) x 1.5 x buffer_bytes). Nothing is
 // visible until the run holding it has been ingested; Finish() ingests the rest.
 // REQUIRES: the store was opened with bulk_load (no WAL, no auto compaction).
 class BulkIndexWriter {
@@ -172,8 +173,8 @@ class BulkIndexWriter {
   size_t files_ = 0;
   uint64_t next_file_ = 0;
   std::unique_ptr<Run> writing_;  // the run the background writer owns
-  std::unique_ptr<Run> spare_;    // the last written run, emptied: the next run's buffers
-  int writing_family_ = 0, spare_family_ = 0;
+  std::unique_ptr<Run> spare_;    // the last written run, emptied: buffers for the next
+  int writing_family_ = 0, spare_family_ = 0;  // run of the same kind (postings or not)
   std::thread writer_;
   Status writer_status_;          // set by the writer; read after joining it
   std::string key_, value_;  // scratch

@@ -7,8 +7,8 @@
 // Dropping the synced part (posix_fadvise DONTNEED, on clean pages only) lets the
 // next writes reuse those pages, as the bulk writer's SST files do.
 //
-// Thread safety: the Env is shared by every store of the process; RocksDB calls a
-// WAL file from one writer at a time.
+// Thread safety: the Env is shared by every store of the process; a WAL file is
+// synced by one thread at a time, and may be appended to meanwhile.
 #pragma once
 
 #include <rocksdb/env.h>

@@ -183,7 +183,8 @@ std::vector<std::tuple<int, uint64_t, std::vector<uint64_t>>> AllBuckets(const I
 
 // The bulk writer's contract for a repeated key (index_store.h): the last value
 // added wins, whether the repeats share a run or fall in runs written one after
-// another (each run reuses the last one's buffers).
+// another (each run reuses the buffers of the last run of its kind); postings, held
+// apart from the other families' entries, are stored once however often added.
 TEST(IndexStoreTest, BulkRepeatedKeyKeepsTheLastValue) {
   TempDir dir;
   StoreOptions bulk_options;
@@ -413,6 +414,7 @@ TEST(IndexStoreTest, AppendedPostingsReadAsSkipListPostings) {
 // A store that syncs its writes drops the synced part of its WAL from the page cache
 // (wal_pages.h); recovery reads the WAL from disk and must find every write: 3 MiB
 // of synced batches, closed without a flush, reopened, read back value by value.
+// (Whether pages were dropped is a matter of speed, measured by the bench, not here.)
 TEST(IndexStoreTest, SyncedWalRecoversAfterItsPagesAreDropped) {
   TempDir dir;
   const SketchScheme scheme = SmallScheme();
