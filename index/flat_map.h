@@ -23,12 +23,13 @@ class FlatMap {
   // Inserts key -> value unless the key is present. Returns the value held for the
   // key (the new or the old one) and whether it was inserted.
   std::pair<Value*, bool> emplace(const Key& key, const Value& value) {
-    if (!slots_.empty()) {
-      Slot& s = slots_[SlotOf(key)];
-      if (s.used) return {&s.value, false};
+    size_t i = slots_.empty() ? 0 : SlotOf(key);
+    if (!slots_.empty() && slots_[i].used) return {&slots_[i].value, false};
+    if (2 * (size_ + 1) > slots_.size()) {  // grows only for a new key
+      Rehash(slots_.empty() ? 16 : 2 * slots_.size());
+      i = SlotOf(key);
     }
-    if (2 * (size_ + 1) > slots_.size()) Rehash(slots_.empty() ? 16 : 2 * slots_.size());
-    Slot& s = slots_[SlotOf(key)];
+    Slot& s = slots_[i];
     s = Slot{key, value, true};
     ++size_;
     return {&s.value, true};
