@@ -324,8 +324,7 @@ Status BulkIndexWriter::WaitForWriter() {
     // (three quarters of the 1M-document job's page faults, and most of what grew
     // faster than the input between the 500k and 1M jobs).
     writing_->Clear();
-    spare_ = std::move(writing_);
-    spare_family_ = writing_family_;
+    spare_[writing_family_ == kBulkPostings] = std::move(writing_);
   }
   Status s = writer_status_;
   writer_status_ = Status::Ok();
@@ -336,10 +335,10 @@ Status BulkIndexWriter::StartRun(int family) {
   SHINGLETON_RETURN_IF_ERROR(WaitForWriter());
   writing_ = std::move(runs_[family]);
   writing_family_ = family;
-  // Postings and the other families fill different buffers: a spare of the other
-  // kind would carry both kinds' capacity.
-  const bool same_kind = spare_ && (spare_family_ == kBulkPostings) == (family == kBulkPostings);
-  runs_[family] = same_kind ? std::move(spare_) : std::make_unique<Run>();
+  // Postings and the other families fill different buffers: one spare of each kind,
+  // so that no run carries both kinds' capacity and neither kind grows fresh buffers.
+  std::unique_ptr<Run>& spare = spare_[family == kBulkPostings];
+  runs_[family] = spare ? std::move(spare) : std::make_unique<Run>();
   buffered_ -= std::min(buffered_, writing_->Footprint());
   ++files_;
   writer_ = std::thread([this, family, number = next_file_++] {

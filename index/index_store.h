@@ -173,8 +173,9 @@ class BulkIndexWriter {
   size_t files_ = 0;
   uint64_t next_file_ = 0;
   std::unique_ptr<Run> writing_;  // the run the background writer owns
-  std::unique_ptr<Run> spare_;    // the last written run, emptied: buffers for the next
-  int writing_family_ = 0, spare_family_ = 0;  // run of the same kind (postings or not)
+  // Written runs, emptied: buffers for the next run of their kind ([1]: postings).
+  std::unique_ptr<Run> spare_[2];
+  int writing_family_ = 0;
   std::thread writer_;
   Status writer_status_;          // set by the writer; read after joining it
   std::string key_, value_;  // scratch
