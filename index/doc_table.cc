@@ -39,9 +39,10 @@ Status DocTable::Add(const DocumentMeta& doc, const uint32_t* sig) {
 
 void DocTable::SetSignature(size_t i, const uint32_t* sig) {
   Record& r = records_[i];
-  if (r.sig_slot == kNoSlot) {
+  if (r.sig_slot == kNoSlot) {  // appended as is: no zero fill first
     r.sig_slot = static_cast<uint32_t>(sigs_.size() / k_);
-    sigs_.resize(sigs_.size() + k_);
+    sigs_.insert(sigs_.end(), sig, sig + k_);
+    return;
   }
   std::copy(sig, sig + k_, sigs_.begin() + static_cast<size_t>(r.sig_slot) * k_);
 }
