@@ -413,16 +413,6 @@ struct ServicePair {
   double ratio() const { return t_service > 0 ? t_embedded / t_service : 0; }
 };
 
-uint64_t DirBytes(const std::string& path) {
-  uint64_t n = 0;
-  std::error_code ec;
-  for (auto it = fs::recursive_directory_iterator(path, ec); !ec && it != fs::recursive_directory_iterator();
-       it.increment(ec)) {
-    if (it->is_regular_file(ec)) n += it->file_size(ec);
-  }
-  return n;
-}
-
 // Runs the embedded job and then the service (3 shards, coordinator, 2 workers with
 // one thread each, finalize) on `dir`/crawl.jsonl, split into part0/part1; servers
 // and outputs live under `run_dir`, removed afterwards.
@@ -469,9 +459,9 @@ ServicePair RunServicePair(const std::string& bin, const std::string& dir, const
   p.lo_total = LoopbackBytes() - lo0;
   const uint64_t coord_rss = PeakRss(coordinator.pid());
   p.coord_growth = coord_rss > coord_rss0 ? coord_rss - coord_rss0 : 0;
-  for (int i = 0; i < 3; ++i) p.shard_disk += DirBytes(run_dir + "/shard" + std::to_string(i));
-  p.coord_disk = DirBytes(run_dir + "/coord");
-  p.embedded_disk = DirBytes(run_dir + "/embedded/index");
+  for (int i = 0; i < 3; ++i) p.shard_disk += DirectoryBytes(run_dir + "/shard" + std::to_string(i));
+  p.coord_disk = DirectoryBytes(run_dir + "/coord");
+  p.embedded_disk = DirectoryBytes(run_dir + "/embedded/index");
   for (auto& s : shards) p.shard_rss = std::max(p.shard_rss, PeakRss(s->pid()));
   coordinator.Terminate();
   for (auto& s : shards) s->Terminate();

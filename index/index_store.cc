@@ -1109,4 +1109,13 @@ StatusOr<DocumentMeta> IndexStore::DecodeDocument(uint64_t key, std::string_view
   return doc;
 }
 
+uint64_t DirectoryBytes(const std::string& path) {
+  std::error_code ec;
+  uint64_t total = 0;
+  for (fs::recursive_directory_iterator it(path, ec), end; !ec && it != end; it.increment(ec)) {
+    if (it->is_regular_file(ec)) total += it->file_size(ec);
+  }
+  return total;
+}
+
 }  // namespace shingleton

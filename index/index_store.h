@@ -335,4 +335,8 @@ class IndexStore {
   mutable std::mutex flush_mu_;
 };
 
+// Bytes of the regular files under `path` (an index, a shard's data directory);
+// 0 when it does not exist. Unreadable entries are skipped.
+uint64_t DirectoryBytes(const std::string& path);
+
 }  // namespace shingleton

@@ -42,17 +42,6 @@ std::string SizeBin(uint64_t size) {
 
 uint64_t BinOrder(const std::string& bin) { return std::stoull(bin); }
 
-uint64_t DirectoryBytes(const std::string& path) {
-  namespace fs = std::filesystem;
-  std::error_code ec;
-  uint64_t total = 0;
-  for (fs::recursive_directory_iterator it(path, ec), end; !ec && it != end;
-       it.increment(ec)) {
-    if (it->is_regular_file(ec)) total += it->file_size(ec);
-  }
-  return total;
-}
-
 bool ParseLabel(const std::string& text, uint64_t* key) {
   if (text.size() != 16) return false;
   char* end = nullptr;

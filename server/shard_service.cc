@@ -262,15 +262,7 @@ grpc::ServerUnaryReactor* ShardService::GetStats(grpc::CallbackServerContext* ct
     return reactor;
   }
   resp->set_address(address_);
-  std::error_code ec;
-  uint64_t bytes = 0;
-  const fs::path dir = fs::path(db_dir_) / "jobs" / req->job();
-  if (fs::exists(dir)) {
-    for (const auto& e : fs::recursive_directory_iterator(dir, ec)) {
-      if (e.is_regular_file(ec)) bytes += e.file_size(ec);
-    }
-  }
-  resp->set_disk_bytes(bytes);
+  resp->set_disk_bytes(DirectoryBytes((fs::path(db_dir_) / "jobs" / req->job()).string()));
   auto store = StoreFor(req->job(), "");
   if (store.ok()) {
     resp->set_postings(store.value()->EstimatePostings());
