@@ -63,10 +63,6 @@ struct Corpus {
   const uint64_t* bucket(size_t i) const { return &buckets[i * scheme.bands]; }
 };
 
-void SignInto(const SketchScheme& s, const uint32_t* sig, uint64_t* buckets) {
-  BandBuckets(sig, s.bands, s.rows, s.seed, buckets);
-}
-
 Corpus MakeCorpus(size_t n, uint64_t seed, size_t family = 4) {
   Corpus c;
   c.scheme = SketchScheme::Default();
@@ -86,7 +82,7 @@ Corpus MakeCorpus(size_t n, uint64_t seed, size_t family = 4) {
         if (SplitMix64(&state) % 20 == 0) sig[j] = static_cast<uint32_t>(SplitMix64(&state));
       }
     }
-    SignInto(c.scheme, sig, &c.buckets[i * b]);
+    BandBuckets(sig, c.scheme.bands, c.scheme.rows, c.scheme.seed, &c.buckets[i * b]);
   }
   return c;
 }
@@ -236,7 +232,7 @@ void QuerySuite(const BenchOptions& opt, std::vector<BenchRow>* rows) {
       for (int j = 0; j < k; ++j) {
         if (SplitMix64(&state) % 20 == 0) sig[j] = static_cast<uint32_t>(SplitMix64(&state));
       }
-      SignInto(c.scheme, sig, &queries.buckets[i * b]);
+      BandBuckets(sig, c.scheme.bands, c.scheme.rows, c.scheme.seed, &queries.buckets[i * b]);
     }
   }
   // Bucket contents as the bench knows them (for the baseline's key list).
